@@ -147,7 +147,10 @@ def job_ink(
     elif impressions is not None and repeat is not None:
         r = _length(repeat, "repeat", REPEAT_HIGH, "the repeat", "18 in or 457 mm")
         length = work.add(
-            "Run length", "L", "L = n × r", {"n": float(impressions), "r": r},
+            "Run length",
+            "L",
+            "L = n × r",
+            {"n": float(impressions), "r": r},
             run_length_from_impressions(impressions, r),
         )
     elif impressions is not None:

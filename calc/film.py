@@ -35,9 +35,7 @@ TYPICAL_PLATE_TO_SUBSTRATE = 0.5
 def parse_anilox_volume(text, field: str | None = "anilox_volume"):
     """Read and check an anilox volume per area (more than 0, at most 100 BCM/in²)."""
     volume = parse_quantity(text, field)
-    require_dimension(
-        volume, LENGTH, field, "a volume per area", "4 BCM/in2 or 6.2 cm3/m2"
-    )
+    require_dimension(volume, LENGTH, field, "a volume per area", "4 BCM/in2 or 6.2 cm3/m2")
     check_range(volume, Q_(0.0, "BCM/in2"), ANILOX_VOLUME_HIGH, field, "an anilox volume")
     return volume
 

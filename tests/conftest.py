@@ -54,8 +54,19 @@ def start_server(data_dir: Path, *extra: str, env: dict | None = None):
     """Start ``inkfilm serve`` (waitress) on a free loopback port; return (process, base URL)."""
     port = free_port()
     process = subprocess.Popen(
-        [sys.executable, "-m", "webapp.cli", "serve", "--host", "127.0.0.1", "--port", str(port),
-         "--data-dir", str(data_dir), *extra],
+        [
+            sys.executable,
+            "-m",
+            "webapp.cli",
+            "serve",
+            "--host",
+            "127.0.0.1",
+            "--port",
+            str(port),
+            "--data-dir",
+            str(data_dir),
+            *extra,
+        ],
         cwd=ROOT,
         env={**os.environ, **(env or {})},
         stdout=subprocess.PIPE,

@@ -44,15 +44,8 @@ def quantity_json(quantity, unit: str | None = None) -> dict:
     return {"value": float(quantity.magnitude), "unit": spelling}
 
 
-def json_body(required: set[str], optional: set[str] = frozenset(), body=None, prefix: str = "") -> dict:
-    """The request's JSON object, checked for missing and unknown fields.
-
-    Optional fields given as ``null`` count as absent.
-    """
-    if body is None:
-        body = request.get_json(force=True, silent=True)
-        if body is None:
-            raise InputError(None, "the request body must be a JSON object")
+def check_fields(body, required: set[str], optional: set[str] = frozenset(), prefix: str = "") -> dict:
+    """``body`` checked for missing and unknown fields; optional ``null`` fields count as absent."""
     where = f"{prefix}." if prefix else ""
     if not isinstance(body, dict):
         raise InputError(prefix or None, "must be a JSON object")
@@ -65,18 +58,29 @@ def json_body(required: set[str], optional: set[str] = frozenset(), body=None, p
     return {name: value for name, value in body.items() if value is not None}
 
 
-@bp.post("/convert")
-def convert_view():
-    body = json_body({"quantity", "to"}, {"density"})
+def request_body() -> dict:
+    """The request's JSON body, which must be an object."""
+    body = request.get_json(force=True, silent=True)
+    if not isinstance(body, dict):
+        raise InputError(None, "the request body must be a JSON object")
+    return body
+
+
+# Each calculation takes a request body (as sent to the API) and gives the
+# API's answer; saved snippets store exactly these two and re-run them here.
+
+
+def compute_convert(body: dict) -> dict:
+    body = check_fields(body, {"quantity", "to"}, {"density"})
     if not isinstance(body["to"], str):
         raise InputError("to", "must be a unit spelling such as 'cm3/m2'")
     result = convert(body["quantity"], body["to"], body.get("density"))
-    return jsonify(result={"value": float(result.magnitude), "unit": body["to"].strip()})
+    return {"result": {"value": float(result.magnitude), "unit": body["to"].strip()}}
 
 
-@bp.post("/film")
-def film_view():
-    body = json_body(
+def compute_film(body: dict) -> dict:
+    body = check_fields(
+        body,
         {"anilox_volume", "anilox_to_plate", "plate_to_substrate"},
         {"solids_by_volume", "solids_by_weight", "ink_density"},
     )
@@ -92,21 +96,20 @@ def film_view():
         answer["wet_coat_weight"] = quantity_json(chain.wet_coat_weight, "g/m2")
     if chain.dry_coat_weight is not None:
         answer["dry_coat_weight"] = quantity_json(chain.dry_coat_weight, "g/m2")
-    return jsonify(answer)
+    return answer
 
 
 STATION_REQUIRED = {"name", "anilox_volume", "coverage", "transfer", "ink_density"}
 STATION_OPTIONAL = {"price_per_kg"}
 
 
-@bp.post("/estimate")
-def estimate_view():
-    body = json_body({"web_width", "stations"}, {"run_length", "impressions", "repeat", "waste"})
+def compute_estimate(body: dict) -> dict:
+    body = check_fields(body, {"web_width", "stations"}, {"run_length", "impressions", "repeat", "waste"})
     stations_in = body.pop("stations")
     if not isinstance(stations_in, list) or not 1 <= len(stations_in) <= MAX_STATIONS:
         raise InputError("stations", f"must be a list of 1 to {MAX_STATIONS} stations")
     stations = [
-        Station(**json_body(STATION_REQUIRED, STATION_OPTIONAL, body=item, prefix=f"stations[{index}]"))
+        Station(**check_fields(item, STATION_REQUIRED, STATION_OPTIONAL, prefix=f"stations[{index}]"))
         for index, item in enumerate(stations_in)
     ]
     estimate = job_ink(stations=stations, **body)
@@ -127,4 +130,16 @@ def estimate_view():
         answer["stations"].append(item)
     if estimate.total_cost is not None:
         answer["total_cost"] = estimate.total_cost
-    return jsonify(answer)
+    return answer
+
+
+CALCULATIONS = {
+    "convert": compute_convert,
+    "film": compute_film,
+    "estimate": compute_estimate,
+}
+
+
+@bp.post("/<any(convert, film, estimate):kind>")
+def calculate(kind: str):
+    return jsonify(CALCULATIONS[kind](request_body()))
