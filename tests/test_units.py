@@ -10,7 +10,7 @@ import math
 import pint
 import pytest
 
-from calc import InputError, Q_
+from calc import Q_, InputError
 from calc.units import convert, dimension_name, parse_quantity, parse_unit
 
 # pint as an independent reference library: a registry of its own, with the
