@@ -48,7 +48,18 @@ def smallest_static_file() -> str:
 def start_server(port: int, data_dir: str) -> tuple[subprocess.Popen, float]:
     start = time.perf_counter()
     process = subprocess.Popen(
-        [sys.executable, "-m", "webapp.cli", "serve", "--host", "127.0.0.1", "--port", str(port), "--data-dir", data_dir],
+        [
+            sys.executable,
+            "-m",
+            "webapp.cli",
+            "serve",
+            "--host",
+            "127.0.0.1",
+            "--port",
+            str(port),
+            "--data-dir",
+            data_dir,
+        ],
         cwd=ROOT,
         stdout=subprocess.DEVNULL,
         stderr=subprocess.DEVNULL,
@@ -140,8 +151,10 @@ def main(argv: list[str] | None = None) -> int:
             f"p99 {result['p99_ms']:6.2f} ms  ({result['requests']} requests, {result['failures']} failed)"
         )
     p99_ratio = convert["p99_ms"] / static["p99_ms"]
-    print(f"ratio convert/static: p50 {convert['p50_ms'] / static['p50_ms']:.2f}x, p99 {p99_ratio:.2f}x "
-          f"(target p99 <= 2x); throughput {convert['rps'] / static['rps']:.2f}x")
+    print(
+        f"ratio convert/static: p50 {convert['p50_ms'] / static['p50_ms']:.2f}x, p99 {p99_ratio:.2f}x "
+        f"(target p99 <= 2x); throughput {convert['rps'] / static['rps']:.2f}x"
+    )
     return 0 if p99_ratio <= 2.0 and startup < 2.0 and not convert["failures"] and not static["failures"] else 1
 
 
