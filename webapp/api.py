@@ -10,6 +10,7 @@ from __future__ import annotations
 from flask import Blueprint, jsonify, request
 
 from calc import InputError
+from calc.equivalents import equivalents
 from calc.estimate import MAX_STATIONS, Station, job_ink
 from calc.film import film_chain
 from calc.units import convert
@@ -133,13 +134,32 @@ def compute_estimate(body: dict) -> dict:
     return answer
 
 
+def compute_equivalents(body: dict) -> dict:
+    """Every useful equivalent of one value, grouped by meaning (the quick converters)."""
+    body = check_fields(body, {"quantity"}, {"density", "coverage"})
+    result = equivalents(body["quantity"], body.get("density"), body.get("coverage"))
+    return {
+        "kind": result.kind,
+        "groups": [
+            {
+                "key": group.key,
+                "title": group.title,
+                "note": group.note,
+                "values": [quantity_json(value, unit) for value, unit in zip(group.values, group.units, strict=True)],
+            }
+            for group in result.groups
+        ],
+    }
+
+
 CALCULATIONS = {
     "convert": compute_convert,
     "film": compute_film,
     "estimate": compute_estimate,
+    "equivalents": compute_equivalents,
 }
 
 
-@bp.post("/<any(convert, film, estimate):kind>")
+@bp.post("/<any(convert, film, estimate, equivalents):kind>")
 def calculate(kind: str):
     return jsonify(CALCULATIONS[kind](request_body()))
