@@ -31,9 +31,14 @@ def create_app(test_config: dict | None = None) -> Flask:
         app.config.update(test_config)
     Path(app.config["DATA_DIR"]).mkdir(parents=True, exist_ok=True)
 
-    from webapp import api
+    from webapp import api, auth, db, snippets, snippets_api
 
     app.register_blueprint(api.bp)
+    # Saved snippets: the SQLite file (migrated here), passcodes and sessions, pages and API.
+    db.init_app(app)
+    auth.init_app(app)
+    app.register_blueprint(snippets_api.bp)
+    app.register_blueprint(snippets.bp)
 
     @app.errorhandler(HTTPException)
     def http_error(exc: HTTPException):

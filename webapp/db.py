@@ -1,0 +1,178 @@
+"""inkfilm's SQLite file: connections, the schema and its migrations, backups.
+
+The database is one file in the data folder. Every request gets its own
+connection on ``g`` (closed at teardown); WAL mode lets readers go on while
+one writer writes, and the busy timeout makes a second writer wait its turn
+instead of failing. The schema is versioned with ``PRAGMA user_version``:
+``MIGRATIONS[n]`` takes a file from version ``n`` to ``n + 1`` and all due
+migrations run, in one transaction each, when the app starts.
+"""
+
+from __future__ import annotations
+
+import contextlib
+import os
+import sqlite3
+from pathlib import Path
+
+from flask import current_app, g
+
+FILENAME = "inkfilm.sqlite3"
+BUSY_TIMEOUT_S = 10.0
+
+# Never edit a migration that has shipped: add a new one at the end.
+MIGRATIONS: list[str] = [
+    # 1: saved calculations ("snippets"), tags as one comma-separated text.
+    """
+    CREATE TABLE snippet (
+        id          INTEGER PRIMARY KEY,
+        uid         TEXT NOT NULL UNIQUE,
+        kind        TEXT NOT NULL,
+        title       TEXT NOT NULL,
+        job_number  TEXT NOT NULL DEFAULT '',
+        press       TEXT NOT NULL DEFAULT '',
+        station     TEXT NOT NULL DEFAULT '',
+        notes       TEXT NOT NULL DEFAULT '',
+        tags        TEXT NOT NULL DEFAULT '',
+        saved_by    TEXT NOT NULL DEFAULT '',
+        inputs      TEXT NOT NULL,
+        results     TEXT NOT NULL,
+        created_at  TEXT NOT NULL,
+        updated_at  TEXT NOT NULL,
+        version     INTEGER NOT NULL DEFAULT 1,
+        deleted_at  TEXT
+    );
+    """,
+    # 2: tags get a table of their own, so that a tag is found whole
+    # ("white" does not find "off-white"); lookups by job and press get indexes.
+    """
+    CREATE TABLE snippet_tag (
+        snippet_id  INTEGER NOT NULL REFERENCES snippet(id) ON DELETE CASCADE,
+        tag         TEXT NOT NULL,
+        PRIMARY KEY (snippet_id, tag)
+    );
+    WITH RECURSIVE split(snippet_id, tag, rest) AS (
+        SELECT id, '', tags || ',' FROM snippet
+        UNION ALL
+        SELECT snippet_id, trim(substr(rest, 1, instr(rest, ',') - 1)), substr(rest, instr(rest, ',') + 1)
+        FROM split WHERE rest <> ''
+    )
+    INSERT OR IGNORE INTO snippet_tag (snippet_id, tag)
+        SELECT snippet_id, lower(tag) FROM split WHERE tag <> '';
+    ALTER TABLE snippet DROP COLUMN tags;
+    CREATE INDEX snippet_tag_tag ON snippet_tag (tag);
+    CREATE INDEX snippet_job ON snippet (job_number);
+    CREATE INDEX snippet_press ON snippet (press);
+    CREATE INDEX snippet_updated ON snippet (deleted_at, updated_at);
+    """,
+]
+
+SCHEMA_VERSION = len(MIGRATIONS)
+
+
+class NewerDatabaseError(RuntimeError):
+    """The file was written by a newer inkfilm than this one."""
+
+
+def connect(path: str | os.PathLike) -> sqlite3.Connection:
+    """A connection with the house settings; the caller closes it.
+
+    Autocommit mode: writers open their own ``BEGIN IMMEDIATE`` transaction
+    (see ``transaction``) so two writers queue at the start instead of
+    deadlocking halfway.
+    """
+    conn = sqlite3.connect(path, timeout=BUSY_TIMEOUT_S, isolation_level=None, check_same_thread=False)
+    conn.row_factory = sqlite3.Row
+    conn.execute("PRAGMA foreign_keys = ON")
+    # FULL: a save the server has answered survives a power cut, not only a crash.
+    conn.execute("PRAGMA synchronous = FULL")
+    return conn
+
+
+@contextlib.contextmanager
+def transaction(conn: sqlite3.Connection):
+    """A write transaction: committed when the block ends, rolled back on error."""
+    conn.execute("BEGIN IMMEDIATE")
+    try:
+        yield conn
+    except BaseException:
+        conn.execute("ROLLBACK")
+        raise
+    conn.execute("COMMIT")
+
+
+def migrate(path: str | os.PathLike) -> int:
+    """Bring the file at ``path`` (created if missing) to ``SCHEMA_VERSION``; return the old version."""
+    with contextlib.closing(connect(path)) as conn:
+        conn.execute("PRAGMA journal_mode = WAL")
+        conn.execute("BEGIN IMMEDIATE")
+        try:
+            found = conn.execute("PRAGMA user_version").fetchone()[0]
+            if found > SCHEMA_VERSION:
+                raise NewerDatabaseError(
+                    f"{path} has schema version {found}, newer than this inkfilm knows ({SCHEMA_VERSION}); "
+                    "run the newer inkfilm or restore a backup"
+                )
+            for number in range(found, SCHEMA_VERSION):
+                for statement in _statements(MIGRATIONS[number]):
+                    conn.execute(statement)
+                # PRAGMA takes no parameters; the number is ours, not a user's.
+                conn.execute(f"PRAGMA user_version = {number + 1}")
+        except BaseException:
+            conn.execute("ROLLBACK")
+            raise
+        conn.execute("COMMIT")
+        return found
+
+
+def _statements(script: str) -> list[str]:
+    """``script`` cut into whole statements (executescript would commit halfway)."""
+    statements, current = [], ""
+    for line in script.splitlines(keepends=True):
+        current += line
+        if sqlite3.complete_statement(current):
+            statements.append(current.strip())
+            current = ""
+    if current.strip():
+        statements.append(current.strip())
+    return statements
+
+
+def backup(source: str | os.PathLike, target: str | os.PathLike) -> None:
+    """A consistent copy of the database at ``source`` into ``target``, safe while the server runs.
+
+    SQLite's online backup copies page by page and restarts if a writer
+    changes the file meanwhile; the copy is written beside the target and
+    renamed over it only when complete.
+    """
+    target = Path(target)
+    partial = target.with_name(target.name + ".partial")
+    partial.unlink(missing_ok=True)
+    with contextlib.closing(connect(source)) as src, contextlib.closing(sqlite3.connect(partial)) as dst:
+        src.backup(dst)
+        dst.execute("PRAGMA journal_mode = DELETE")
+    os.replace(partial, target)
+
+
+def database_path(app=None) -> Path:
+    app = app or current_app
+    return Path(app.config["DATA_DIR"]) / FILENAME
+
+
+def get_db() -> sqlite3.Connection:
+    """This request's connection, opened on first use."""
+    if "db" not in g:
+        g.db = connect(database_path())
+    return g.db
+
+
+def close_db(_exc=None) -> None:
+    conn = g.pop("db", None)
+    if conn is not None:
+        conn.close()
+
+
+def init_app(app) -> None:
+    """Migrate the file at start-up and close each request's connection after it."""
+    migrate(database_path(app))
+    app.teardown_appcontext(close_db)

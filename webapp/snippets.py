@@ -1,0 +1,440 @@
+"""Saved snippets, the pages: save from a calculator, list and search, open,
+re-run, edit, delete to the bin and back, share by link and QR, export, import.
+
+Views parse the form, call ``webapp.store``, render. Forms work without
+JavaScript; htmx adds live search on top. Every form carries the session's
+CSRF token (checked in ``before_request``); a write form that needs a
+passcode takes it in the same form, so nothing typed is lost to a lock.
+"""
+
+from __future__ import annotations
+
+import io
+import json
+
+import segno
+from flask import (
+    Blueprint,
+    Response,
+    abort,
+    flash,
+    make_response,
+    redirect,
+    render_template,
+    request,
+    url_for,
+)
+
+from calc import InputError
+from webapp import auth, store
+from webapp.api import CALCULATIONS
+from webapp.db import get_db
+
+bp = Blueprint("snippets", __name__)
+
+NAME_COOKIE = "inkfilm_name"
+KIND_NAMES = {
+    "convert": "Conversion",
+    "equivalents": "Quick converter",
+    "film": "Film chain",
+    "estimate": "Job ink estimate",
+}
+WHAT = {"write": "Saving and editing", "supervise": "Deleting, the bin and import"}
+# How units read on the page (the API spells them in plain ASCII).
+UNIT_DISPLAY = {
+    "um": "µm",
+    "m2": "m²",
+    "cm3/m2": "cm³/m²",
+    "g/m2": "g/m²",
+    "g/cm3": "g/cm³",
+    "BCM/in2": "BCM/in²",
+    "in2": "in²",
+    "ft2": "ft²",
+    "cm3": "cm³",
+    "mm3": "mm³",
+    "in3": "in³",
+}
+
+
+@bp.before_request
+def _csrf():
+    auth.check_form_csrf()
+
+
+@bp.app_template_filter("kind_name")
+def kind_name(kind: str) -> str:
+    return KIND_NAMES.get(kind, kind.replace("_", " ").capitalize())
+
+
+@bp.app_template_filter("field_name")
+def field_name(name) -> str:
+    """``anilox_to_plate`` → ``Anilox to plate``; ``stations[0].ink_mass`` → ``Station 1 ink mass``."""
+    text = str(name)
+    for index in range(12, -1, -1):
+        text = text.replace(f"stations[{index}].", f"station {index + 1} ")
+    return text.replace("_", " ").replace(".", " ").capitalize()
+
+
+@bp.app_template_filter("number")
+def number(value) -> str:
+    """A number as the floor reads it: up to 4 significant digits, thousands grouped."""
+    if isinstance(value, bool) or not isinstance(value, int | float):
+        return str(value)
+    if abs(value) >= 1000:
+        return f"{value:,.0f}"
+    text = f"{value:.4g}"
+    return f"{value:.6f}".rstrip("0").rstrip(".") if "e" in text else text
+
+
+@bp.app_template_filter("unit")
+def unit(spelling: str) -> str:
+    return UNIT_DISPLAY.get(spelling, spelling)
+
+
+@bp.app_template_filter("when")
+def when(stamp: str | None) -> str:
+    """``2024-05-01T13:45:00Z`` → ``2024-05-01 13:45 UTC``."""
+    return f"{stamp[:10]} {stamp[11:16]} UTC" if stamp else ""
+
+
+@bp.app_template_global("is_quantity")
+def is_quantity(value) -> bool:
+    return isinstance(value, dict) and set(value) == {"value", "unit"}
+
+
+def _form_meta() -> dict:
+    return {name: request.form.get(name, "") for name in store.META_FIELDS}
+
+
+def _gate(action: str) -> tuple[str | None, int]:
+    """``(None, 200)`` if this browser may do ``action``; else a message and a status.
+
+    A passcode typed into the same form unlocks this browser on the way.
+    """
+    if auth.allowed(action, auth.session_role()):
+        return None, 200
+    needs = "supervisor" if auth.needed(action) == "supervisor" else "shop"
+    passcode = request.form.get("passcode", "")
+    if not passcode:
+        return f"{WHAT[action]} needs the {needs} passcode: type it here.", 403
+    try:
+        role = auth.role_for_passcode(passcode)
+    except auth.Locked as exc:
+        return exc.message[0].upper() + exc.message[1:] + ".", 429
+    if role is None:
+        return "That passcode is not right.", 403
+    auth.unlock(role)
+    if not auth.allowed(action, role):
+        return f"{WHAT[action]} needs the supervisor passcode.", 403
+    return None, 200
+
+
+def _locked_page(action: str):
+    """The page for a plain link to something locked: what it needs, and where to unlock."""
+    needs = "supervisor" if auth.needed(action) == "supervisor" else "shop"
+    return render_template("snippets/locked.html", what=WHAT[action], needs=needs), 403
+
+
+# --- list and search --------------------------------------------------------------------------
+
+
+@bp.get("/snippets")
+def index():
+    q = request.args.get("q", "").strip()[:200]
+    press = request.args.get("press", "").strip()[:100]
+    kind = request.args.get("kind", "").strip()[:40]
+    snippets, total = store.search(get_db(), q, press=press, kind=kind, limit=100)
+    context = {
+        "snippets": snippets,
+        "total": total,
+        "q": q,
+        "press": press,
+        "kind": kind,
+        "presses": store.presses(get_db()),
+        "kinds": sorted(CALCULATIONS),
+    }
+    if request.headers.get("HX-Request") and request.headers.get("HX-Target") == "snippet-results":
+        response = make_response(render_template("snippets/_list.html", **context))
+    else:
+        response = make_response(render_template("snippets/list.html", **context))
+    response.headers["Vary"] = "HX-Request, HX-Target"
+    return response
+
+
+# --- save -------------------------------------------------------------------------------------
+
+
+def _new_form(kind, inputs, meta, *, errors=None, status=200):
+    """The save form for ``inputs``, with today's results (or why there are none)."""
+    results, problem = None, None
+    try:
+        store.check_kind(kind, CALCULATIONS)
+        results = store.compute(kind, inputs, CALCULATIONS)
+    except InputError as exc:
+        problem = exc
+    return (
+        render_template(
+            "snippets/new.html",
+            kind=kind,
+            inputs=inputs,
+            inputs_json=json.dumps(inputs, ensure_ascii=False),
+            results=results,
+            problem=problem,
+            meta=meta,
+            errors=errors or {},
+            limits=store.LIMITS,
+            presses=store.presses(get_db()),
+        ),
+        status if problem is None else 400,
+    )
+
+
+def _inputs_from_form():
+    try:
+        inputs = json.loads(request.form.get("inputs", ""))
+    except ValueError:
+        inputs = None
+    return inputs
+
+
+def _default_title(kind: str, inputs) -> str:
+    if not isinstance(inputs, dict):
+        return kind_name(str(kind))
+    first = next((value for value in inputs.values() if isinstance(value, str | int | float)), None)
+    label = kind_name(str(kind))
+    return f"{label}: {first}"[: store.LIMITS["title"]] if first is not None else label
+
+
+@bp.post("/snippets/new")
+def new():
+    kind = request.form.get("kind", "")
+    inputs = _inputs_from_form()
+    meta = {
+        "title": _default_title(kind, inputs),
+        "saved_by": request.cookies.get(NAME_COOKIE, "")[: store.LIMITS["saved_by"]],
+    }
+    return _new_form(kind, inputs, meta)
+
+
+@bp.post("/snippets")
+def create():
+    kind = request.form.get("kind", "")
+    inputs = _inputs_from_form()
+    meta = _form_meta()
+    message, status = _gate("write")
+    if message:
+        return _new_form(kind, inputs, meta, errors={"passcode": message}, status=status)
+    try:
+        snippet = store.create(get_db(), kind, inputs, meta, CALCULATIONS)
+    except InputError as exc:
+        return _new_form(kind, inputs, meta, errors={exc.field or "form": exc.message}, status=400)
+    flash("Saved. Anyone on the shop network can find it under Saved.")
+    response = redirect(url_for("snippets.show", snippet_id=snippet["id"]), code=303)
+    if snippet["saved_by"]:
+        response.set_cookie(NAME_COOKIE, snippet["saved_by"], max_age=400 * 24 * 3600, httponly=True, samesite="Strict")
+    return response
+
+
+# --- one snippet ----------------------------------------------------------------------------------
+
+
+def _load(snippet_id: int, *, deleted: bool = False) -> dict:
+    try:
+        return store.get(get_db(), snippet_id, deleted=deleted)
+    except store.NotFound:
+        abort(404)
+
+
+@bp.get("/s/<int:snippet_id>")
+def short_link(snippet_id: int):
+    return redirect(url_for("snippets.show", snippet_id=snippet_id))
+
+
+@bp.get("/snippets/<int:snippet_id>")
+def show(snippet_id: int):
+    snippet = _load(snippet_id)
+    rerun = store.rerun(snippet, CALCULATIONS) if request.args.get("rerun") else None
+    return render_template(
+        "snippets/view.html",
+        snippet=snippet,
+        rerun=rerun,
+        share_url=url_for("snippets.short_link", snippet_id=snippet_id, _external=True),
+    )
+
+
+@bp.get("/snippets/<int:snippet_id>/qr.svg")
+def qr(snippet_id: int):
+    _load(snippet_id)
+    url = url_for("snippets.short_link", snippet_id=snippet_id, _external=True)
+    out = io.BytesIO()
+    segno.make(url, error="m").save(out, kind="svg", scale=6, border=2, xmldecl=False, title=url)
+    response = Response(out.getvalue(), mimetype="image/svg+xml")
+    response.headers["Cache-Control"] = "no-cache"
+    return response
+
+
+@bp.post("/snippets/<int:snippet_id>/keep")
+def keep_today(snippet_id: int):
+    """Replace the saved results with today's (after a re-run showed a difference)."""
+    snippet = _load(snippet_id)
+    message, status = _gate("write")
+    if message:
+        flash(message)
+        return redirect(url_for("snippets.show", snippet_id=snippet_id, rerun=1), code=303)
+    rerun = store.rerun(snippet, CALCULATIONS)
+    if rerun.error is not None:
+        flash("Today's core cannot work these inputs out; the saved results stay.")
+        return redirect(url_for("snippets.show", snippet_id=snippet_id, rerun=1), code=303)
+    try:
+        store.update(get_db(), snippet_id, request.form.get("version", ""), {}, results=rerun.results)
+    except (store.Conflict, InputError):
+        flash("Changed by someone else meanwhile — here is the newer one. Nothing was overwritten.")
+        return redirect(url_for("snippets.show", snippet_id=snippet_id, rerun=1), code=303)
+    flash("Today's results are saved with this snippet.")
+    return redirect(url_for("snippets.show", snippet_id=snippet_id), code=303)
+
+
+# --- edit ----------------------------------------------------------------------------------------
+
+
+def _edit_form(snippet, meta, *, version, errors=None, newer=None, status=200):
+    return (
+        render_template(
+            "snippets/edit.html",
+            snippet=snippet,
+            meta=meta,
+            version=version,
+            errors=errors or {},
+            newer=newer,
+            limits=store.LIMITS,
+            presses=store.presses(get_db()),
+        ),
+        status,
+    )
+
+
+@bp.get("/snippets/<int:snippet_id>/edit")
+def edit(snippet_id: int):
+    snippet = _load(snippet_id)
+    meta = {name: snippet[name] for name in store.META_FIELDS}
+    meta["tags"] = ", ".join(snippet["tags"])
+    return _edit_form(snippet, meta, version=snippet["version"])
+
+
+@bp.post("/snippets/<int:snippet_id>/edit")
+def update(snippet_id: int):
+    snippet = _load(snippet_id)
+    meta = _form_meta()
+    version = request.form.get("version", "")
+    message, status = _gate("write")
+    if message:
+        return _edit_form(snippet, meta, version=version, errors={"passcode": message}, status=status)
+    try:
+        store.update(get_db(), snippet_id, version, meta)
+    except store.Conflict as exc:
+        # Keep what this person typed on screen beside the newer snippet; they choose.
+        return _edit_form(
+            exc.current,
+            meta,
+            version=exc.current["version"],
+            errors={"form": exc.message},
+            newer=exc.current,
+            status=409,
+        )
+    except InputError as exc:
+        return _edit_form(snippet, meta, version=version, errors={exc.field or "form": exc.message}, status=400)
+    flash("Changes saved.")
+    return redirect(url_for("snippets.show", snippet_id=snippet_id), code=303)
+
+
+# --- delete, bin, restore -----------------------------------------------------------------------------
+
+
+@bp.post("/snippets/<int:snippet_id>/delete")
+def delete(snippet_id: int):
+    snippet = _load(snippet_id)
+    message, status = _gate("supervise")
+    if message:
+        return render_template("snippets/view.html", snippet=snippet, rerun=None, delete_error=message), status
+    try:
+        store.delete(get_db(), snippet_id, request.form.get("version") or None)
+    except store.Conflict:
+        flash("Changed by someone else meanwhile — here is the newer one. Nothing was deleted.")
+        return redirect(url_for("snippets.show", snippet_id=snippet_id), code=303)
+    except InputError as exc:
+        flash(exc.message)
+        return redirect(url_for("snippets.show", snippet_id=snippet_id), code=303)
+    flash(f"“{snippet['title']}” is in the bin for {store.BIN_DAYS} days.", "deleted")
+    flash(str(snippet_id), "undo")
+    return redirect(url_for("snippets.index"), code=303)
+
+
+@bp.route("/snippets/bin", methods=["GET", "POST"])
+def bin_page():
+    message, status = _gate("supervise")
+    if message:
+        return render_template("snippets/bin.html", snippets=None, gate_error=message), status
+    if request.method == "POST":
+        return redirect(url_for("snippets.bin_page"), code=303)
+    snippets = store.in_bin(get_db())
+    return render_template("snippets/bin.html", snippets=snippets, purge_date=store.purge_date, days=store.BIN_DAYS)
+
+
+@bp.post("/snippets/<int:snippet_id>/restore")
+def restore(snippet_id: int):
+    message, status = _gate("supervise")
+    if message:
+        return render_template("snippets/bin.html", snippets=None, gate_error=message), status
+    try:
+        snippet = store.restore(get_db(), snippet_id)
+    except store.NotFound:
+        flash("That snippet is not in the bin any more.")
+        return redirect(url_for("snippets.index"), code=303)
+    flash(f"“{snippet['title']}” is back.")
+    return redirect(url_for("snippets.show", snippet_id=snippet_id), code=303)
+
+
+# --- export and import ------------------------------------------------------------------------------------
+
+
+@bp.get("/snippets/export.json")
+def export_json():
+    body = json.dumps(store.export_all(get_db()), ensure_ascii=False, indent=1)
+    return Response(
+        body,
+        mimetype="application/json",
+        headers={"Content-Disposition": 'attachment; filename="inkfilm-snippets.json"'},
+    )
+
+
+@bp.get("/snippets/export.csv")
+def export_csv():
+    return Response(
+        store.export_csv(get_db()),
+        mimetype="text/csv",
+        headers={"Content-Disposition": 'attachment; filename="inkfilm-snippets.csv"'},
+    )
+
+
+@bp.route("/snippets/import", methods=["GET", "POST"])
+def import_page():
+    if request.method == "GET":
+        return render_template("snippets/import.html", errors={})
+    message, status = _gate("supervise")
+    if message:
+        return render_template("snippets/import.html", errors={"passcode": message}), status
+    upload = request.files.get("file")
+    if upload is None or not upload.filename:
+        return render_template("snippets/import.html", errors={"file": "Choose an export file first."}), 400
+    try:
+        data = json.loads(upload.read().decode("utf-8-sig"))
+        counts = store.import_all(get_db(), data)
+    except InputError as exc:
+        where = f"{exc.field}: " if exc.field else ""
+        error = f"Nothing was imported. {where}{exc.message}."
+        return render_template("snippets/import.html", errors={"file": error}), 400
+    except ValueError:
+        error = "This file is not JSON; choose a file that inkfilm exported as JSON."
+        return render_template("snippets/import.html", errors={"file": error}), 400
+    flash(f"Imported {counts['added']} snippets; {counts['already_here']} were here already.")
+    return redirect(url_for("snippets.index"), code=303)
