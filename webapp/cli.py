@@ -1,10 +1,14 @@
-"""The ``inkfilm`` command: serve the app with waitress."""
+"""The ``inkfilm`` command: serve the app with waitress, back up its database."""
 
 from __future__ import annotations
 
 import argparse
+import os
 import sys
 from pathlib import Path
+
+DEFAULT_DATA = Path("inkfilm-data")
+DEMO_DATA = Path("inkfilm-demo-data")
 
 
 def build_parser() -> argparse.ArgumentParser:
@@ -17,11 +21,34 @@ def build_parser() -> argparse.ArgumentParser:
     serve.add_argument(
         "--data-dir",
         type=Path,
-        default=Path("inkfilm-data"),
-        help="folder for inkfilm's data, created if missing (default ./inkfilm-data)",
+        default=None,
+        help=f"folder for inkfilm's data, created if missing (default ./{DEFAULT_DATA}, with --demo ./{DEMO_DATA})",
     )
     serve.add_argument("--threads", type=int, default=8, help="worker threads (default 8)")
+    serve.add_argument(
+        "--demo",
+        action="store_true",
+        help="serve an invented shop's saved snippets from a separate data folder, to look around",
+    )
+    serve.add_argument(
+        "--shop-passcode",
+        metavar="PASSCODE",
+        help="passcode for saving and editing snippets (or set INKFILM_SHOP_PASSCODE; the variable keeps it "
+        "out of the process list)",
+    )
+    serve.add_argument(
+        "--supervisor-passcode",
+        metavar="PASSCODE",
+        help="passcode for deleting, the bin and import (or set INKFILM_SUPERVISOR_PASSCODE)",
+    )
     serve.set_defaults(handler=serve_command)
+
+    backup = commands.add_parser("backup", help="copy the database consistently to PATH, also while the server runs")
+    backup.add_argument("path", type=Path, metavar="PATH", help="file to write the copy to (replaced if it exists)")
+    backup.add_argument(
+        "--data-dir", type=Path, default=DEFAULT_DATA, help=f"the server's data folder (default ./{DEFAULT_DATA})"
+    )
+    backup.set_defaults(handler=backup_command)
     return parser
 
 
@@ -29,11 +56,48 @@ def serve_command(args) -> int:
     import waitress
 
     from webapp import create_app
+    from webapp.db import NewerDatabaseError
 
-    data_dir = args.data_dir.resolve()
-    app = create_app({"DATA_DIR": str(data_dir)})
-    print(f"inkfilm: serving on http://{args.host}:{args.port}/ with data in {data_dir}", flush=True)
+    data_dir = (args.data_dir or (DEMO_DATA if args.demo else DEFAULT_DATA)).resolve()
+    config = {"DATA_DIR": str(data_dir), "DEMO": args.demo}
+    shop = args.shop_passcode or os.environ.get("INKFILM_SHOP_PASSCODE")
+    supervisor = args.supervisor_passcode or os.environ.get("INKFILM_SUPERVISOR_PASSCODE")
+    if shop:
+        config["SHOP_PASSCODE"] = shop
+    if supervisor:
+        config["SUPERVISOR_PASSCODE"] = supervisor
+    if args.demo:
+        from webapp import demo
+
+        data_dir.mkdir(parents=True, exist_ok=True)
+        added = demo.fill(data_dir)
+        if added:
+            print(f"inkfilm: filled {data_dir} with {added} snippets of the demo shop", flush=True)
+    try:
+        app = create_app(config)
+    except NewerDatabaseError as exc:
+        print(f"inkfilm: {exc}", file=sys.stderr)
+        return 2
+    locks = [name for name, value in (("shop", shop), ("supervisor", supervisor)) if value]
+    lock_note = f"passcodes set: {', '.join(locks)}" if locks else "no passcodes: the floor can write freely"
+    # The passcodes themselves are never printed.
+    print(
+        f"inkfilm: serving on http://{args.host}:{args.port}/ with data in {data_dir} ({lock_note})",
+        flush=True,
+    )
     waitress.serve(app, host=args.host, port=args.port, threads=args.threads, ident="inkfilm")
+    return 0
+
+
+def backup_command(args) -> int:
+    from webapp import db
+
+    source = args.data_dir.resolve() / db.FILENAME
+    if not source.exists():
+        print(f"inkfilm: there is no database at {source}", file=sys.stderr)
+        return 1
+    db.backup(source, args.path)
+    print(f"inkfilm: copied {source} to {args.path}", flush=True)
     return 0
 
 

@@ -128,13 +128,13 @@ def migrate(path: str | os.PathLike) -> int:
 def _statements(script: str) -> list[str]:
     """``script`` cut into whole statements (executescript would commit halfway)."""
     statements, current = [], ""
-    for line in script.splitlines(keepends=True):
-        current += line
+    for piece in script.split(";"):
+        current += piece + ";"
+        # A ";" inside a string or a trigger body does not end the statement.
         if sqlite3.complete_statement(current):
-            statements.append(current.strip())
+            if current.strip(" \n\t;"):
+                statements.append(current.strip())
             current = ""
-    if current.strip():
-        statements.append(current.strip())
     return statements
 
 
