@@ -269,3 +269,40 @@ def film_layers(films, spelling: str, *, tallest: float = 140.0, baseline: float
         height = max(height, least)
         layers.append(Layer(key, label, show(quantity, spelling), round(height, 2), round(baseline - height, 2)))
     return layers
+
+
+# --- Values in the working ("how this was worked out") ------------------------
+
+# The units the core computes in, and the role whose preferred unit shows them;
+# a value in any other unit is one the user typed and is shown as typed.
+_CORE_UNIT_ROLES = {
+    "micrometer": "film",
+    "gram / meter ** 2": "coat_weight",
+    "meter ** 2": "area",
+    "meter": "length",
+    "kilogram": "mass",
+    "liter": "volume",
+}
+_PINT_LABEL_FIXES = {"th": "mil", "lpcm": "lines/cm", "gal": "US gal"}
+
+
+def show_value(value, system: str) -> str:
+    """A value from the working as people read it, in the user's preferred units.
+
+    Shares show as percentages; quantities the core computed (µm, g/m², m², …)
+    in the preferred unit for their role; quantities as typed in their own unit.
+
+    >>> show_value(0.5, "metric")
+    '50 %'
+    >>> show_value(Q_(6.975, "um"), "imperial")
+    '0.275 mil'
+    >>> show_value(Q_(4.5, "BCM/in2"), "metric")
+    '4.5 BCM/in²'
+    """
+    if isinstance(value, int | float):
+        return f"{format_percent(value)} %"
+    role = _CORE_UNIT_ROLES.get(str(value.units))
+    if role is not None:
+        return str(show(value, role_units(role, system)[0]))
+    label = f"{value.units:~P}"
+    return f"{format_number(float(value.magnitude))} {_PINT_LABEL_FIXES.get(label, label)}"

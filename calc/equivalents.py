@@ -6,7 +6,7 @@ film thickness; with the ink's density a film is also a coat weight and an ink
 mileage; a printed area at a coverage is an inked area.
 
 >>> [g.key for g in equivalents("4.5 BCM/in2").groups]
-['volume_per_area', 'film_thickness', 'thickness_other']
+['volume_per_area', 'film_thickness']
 >>> equivalents("0.6 mil").group("film_thickness").values[0]  # doctest: +NUMBER
 <Quantity(15.24, 'micrometer')>
 """
@@ -127,6 +127,10 @@ def _kind(quantity) -> str:
         ) from None
 
 
+def _is_volume_per_area(quantity) -> bool:
+    return any(quantity.units == Q_(1.0, unit).units for unit in VOLUME_PER_AREA_UNITS)
+
+
 def equivalents(quantity, density=None, coverage: float | None = None) -> Equivalents:
     """Every useful equivalent of ``quantity``, grouped by what it means.
 
@@ -178,7 +182,8 @@ def equivalents(quantity, density=None, coverage: float | None = None) -> Equiva
         film = quantity.to("um")
         groups.append(_group("volume_per_area", quantity, VOLUME_PER_AREA_UNITS))
         groups.append(_group("film_thickness", quantity, FILM_UNITS))
-        groups.append(_group("thickness_other", quantity, THICKNESS_OTHER_UNITS))
+        if not _is_volume_per_area(quantity):  # mm and inches suit a typed thickness, not an anilox
+            groups.append(_group("thickness_other", quantity, THICKNESS_OTHER_UNITS))
         work.add("Film thickness", "t", "t = V  (1 cm³/m² spreads to 1 µm)", {"V": quantity}, film)
         if rho is not None:
             weight = Q_(film.magnitude * rho.to("g/cm3").magnitude, "g/m2")

@@ -31,9 +31,11 @@ def create_app(test_config: dict | None = None) -> Flask:
         app.config.update(test_config)
     Path(app.config["DATA_DIR"]).mkdir(parents=True, exist_ok=True)
 
-    from webapp import api, auth, db, snippets, snippets_api
+    from webapp import api, auth, db, pages, snippets, snippets_api
 
     app.register_blueprint(api.bp)
+    # The pages (converters, film chain, estimate), security headers, compression.
+    pages.init_app(app)
     # Saved snippets: the SQLite file (migrated here), passcodes and sessions, pages and API.
     db.init_app(app)
     auth.init_app(app)
