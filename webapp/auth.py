@@ -65,13 +65,18 @@ def check_passcode(passcode: str, stored: str) -> bool:
 
 def init_app(app) -> None:
     """Hash the passcodes, load (or make) the secret key, set the session cookie's flags."""
+    if not app.config.get("SECRET_KEY"):
+        app.config["SECRET_KEY"] = _secret_key(Path(app.config["DATA_DIR"]))
+    secret = app.config["SECRET_KEY"]
+    secret = secret.encode() if isinstance(secret, str) else secret
     for role in ("shop", "supervisor"):
         key = f"{role.upper()}_PASSCODE"
         plain = app.config.pop(key, None)
         if plain:
             app.config[f"{key}_HASH"] = hash_passcode(plain)
-    if not app.config.get("SECRET_KEY"):
-        app.config["SECRET_KEY"] = _secret_key(Path(app.config["DATA_DIR"]))
+            # Names the passcode in session cookies without its salt, so that an
+            # unlock survives a restart with the same passcode and not a new one.
+            app.config[f"{key}_TAG"] = hmac.new(secret, b"unlock:" + plain.encode(), "sha256").hexdigest()[:32]
     app.config.update(
         SESSION_COOKIE_NAME="inkfilm_session",
         SESSION_COOKIE_HTTPONLY=True,
@@ -173,9 +178,9 @@ def needed(action: str) -> str:
     return "supervisor"
 
 
-def _fingerprint(role: str) -> str:
+def _fingerprint(role: str) -> str | None:
     # Ties an unlock to today's passcode: a new passcode at restart locks every device again.
-    return hashlib.sha256(_hashes().get(role, "").encode()).hexdigest()[:16]
+    return current_app.config.get(f"{role.upper()}_PASSCODE_TAG")
 
 
 def role_for_passcode(passcode: str) -> str | None:
@@ -204,7 +209,8 @@ def session_role() -> str:
     unlocked = session.get("unlocked")
     if not isinstance(unlocked, dict) or unlocked.get("role") not in RANK:
         return "reader"
-    if unlocked.get("until", 0) < time.time() or unlocked.get("key") != _fingerprint(unlocked["role"]):
+    tag = _fingerprint(unlocked["role"])
+    if tag is None or unlocked.get("until", 0) < time.time() or unlocked.get("key") != tag:
         return "reader"
     return unlocked["role"]
 
