@@ -21,7 +21,7 @@ def build_parser() -> argparse.ArgumentParser:
     serve.add_argument(
         "--data-dir",
         type=Path,
-        default=None,
+        default=DEFAULT_DATA,
         help=f"folder for inkfilm's data, created if missing (default ./{DEFAULT_DATA}, with --demo ./{DEMO_DATA})",
     )
     serve.add_argument("--threads", type=int, default=8, help="worker threads (default 8)")
@@ -58,7 +58,8 @@ def serve_command(args) -> int:
     from webapp import create_app
     from webapp.db import NewerDatabaseError
 
-    data_dir = (args.data_dir or (DEMO_DATA if args.demo else DEFAULT_DATA)).resolve()
+    # The demo shop never fills the real data folder.
+    data_dir = (DEMO_DATA if args.demo and args.data_dir == DEFAULT_DATA else args.data_dir).resolve()
     config = {"DATA_DIR": str(data_dir), "DEMO": args.demo}
     shop = args.shop_passcode or os.environ.get("INKFILM_SHOP_PASSCODE")
     supervisor = args.supervisor_passcode or os.environ.get("INKFILM_SUPERVISOR_PASSCODE")
