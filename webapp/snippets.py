@@ -200,7 +200,9 @@ def _inputs_from_form():
 def _default_title(kind: str, inputs) -> str:
     if not isinstance(inputs, dict):
         return kind_name(str(kind))
-    first = next((value for value in inputs.values() if isinstance(value, str | int | float)), None)
+    # The input a person would name the calculation by, where there is one.
+    key = next((k for k in ("anilox_volume", "quantity", "web_width") if isinstance(inputs.get(k), str)), None)
+    first = inputs[key] if key else None
     label = kind_name(str(kind))
     return f"{label}: {first}"[: store.LIMITS["title"]] if first is not None else label
 
