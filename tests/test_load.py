@@ -1,0 +1,152 @@
+"""Load: 32 clients save, edit and list snippets at once for 30 s against one waitress server on loopback.
+
+No answer may be a 5xx; afterwards every acknowledged snippet is there exactly
+once with every acknowledged edit (its version counts them). The figures
+(requests, p50 and p99 latency) are printed and written to tests/screenshots/.
+``INKFILM_LOAD_SECONDS`` shortens or lengthens the run.
+"""
+
+from __future__ import annotations
+
+import contextlib
+import http.client
+import json
+import os
+import sqlite3
+import statistics
+import threading
+import time
+
+import pytest
+
+from tests.conftest import SCREENSHOTS, start_server
+from webapp import db
+
+pytestmark = pytest.mark.slow
+
+CLIENTS = 32
+SECONDS = float(os.environ.get("INKFILM_LOAD_SECONDS", "30"))
+FILM = {"anilox_volume": "4 BCM/in2", "anilox_to_plate": 0.5, "plate_to_substrate": 0.5}
+
+
+class Client(threading.Thread):
+    """Saves a snippet, edits one of its own, lists by its own tag; round and round."""
+
+    def __init__(self, base: str, name: str, deadline: float):
+        super().__init__(daemon=True)
+        host, port = base.removeprefix("http://").split(":")
+        self.address = (host, int(port))
+        self.name_tag = name
+        self.deadline = deadline
+        self.latencies: list[float] = []
+        self.statuses: dict[int, int] = {}
+        self.failures: list[str] = []
+        self.mine: dict[int, dict] = {}  # id -> {"title", "version"}
+
+    def call(self, conn, method: str, path: str, body=None):
+        payload = json.dumps(body) if body is not None else None
+        headers = {"Content-Type": "application/json"} if body is not None else {}
+        start = time.perf_counter()
+        conn.request(method, path, payload, headers)
+        response = conn.getresponse()
+        data = response.read()
+        self.latencies.append(time.perf_counter() - start)
+        self.statuses[response.status] = self.statuses.get(response.status, 0) + 1
+        return response.status, json.loads(data) if data else None
+
+    def run(self):
+        conn = http.client.HTTPConnection(*self.address, timeout=30)
+        number = 0
+        try:
+            while time.monotonic() < self.deadline:
+                title = f"{self.name_tag} snippet {number}"
+                status, snippet = self.call(
+                    conn,
+                    "POST",
+                    "/api/v1/snippets",
+                    {"kind": "film", "inputs": FILM, "title": title, "tags": [self.name_tag], "press": "N1"},
+                )
+                if status == 201:
+                    self.mine[snippet["id"]] = {"title": title, "version": 1}
+                else:
+                    self.failures.append(f"create {status}")
+                if self.mine:
+                    snippet_id = list(self.mine)[number % len(self.mine)]
+                    version = self.mine[snippet_id]["version"]
+                    status, changed = self.call(
+                        conn,
+                        "PUT",
+                        f"/api/v1/snippets/{snippet_id}",
+                        {"version": version, "notes": f"edit {version}"},
+                    )
+                    if status == 200:
+                        self.mine[snippet_id]["version"] = changed["version"]
+                    else:
+                        self.failures.append(f"edit {status}")
+                status, listing = self.call(conn, "GET", f"/api/v1/snippets?q={self.name_tag}&limit=20")
+                if status != 200:
+                    self.failures.append(f"list {status}")
+                number += 1
+        except (OSError, http.client.HTTPException) as exc:
+            self.failures.append(f"connection: {exc!r}")
+        finally:
+            conn.close()
+
+
+def test_32_clients_for_30_seconds(tmp_path, capsys):
+    data = tmp_path / "data"
+    process, base = start_server(data)
+
+    def read():
+        for _line in process.stdout:
+            pass
+
+    reader = threading.Thread(target=read, daemon=True)
+    reader.start()
+    try:
+        deadline = time.monotonic() + SECONDS
+        clients = [Client(base, f"client{n:02d}", deadline) for n in range(CLIENTS)]
+        started = time.monotonic()
+        for client in clients:
+            client.start()
+        for client in clients:
+            client.join(timeout=SECONDS + 60)
+        elapsed = time.monotonic() - started
+    finally:
+        process.terminate()
+        process.wait(timeout=15)
+        reader.join(timeout=5)
+        process.stdout.close()
+
+    latencies = sorted(latency for client in clients for latency in client.latencies)
+    statuses: dict[int, int] = {}
+    for client in clients:
+        for status, count in client.statuses.items():
+            statuses[status] = statuses.get(status, 0) + count
+    server_errors = sum(count for status, count in statuses.items() if status >= 500)
+    p50 = statistics.median(latencies) * 1000
+    p99 = latencies[int(0.99 * (len(latencies) - 1))] * 1000
+    created = sum(len(client.mine) for client in clients)
+    edits = sum(info["version"] - 1 for client in clients for info in client.mine.values())
+    figures = (
+        f"load test: {CLIENTS} clients for {elapsed:.1f} s, {len(latencies)} requests "
+        f"({len(latencies) / elapsed:.0f}/s; {created} saves, {edits} edits, the rest lists), "
+        f"p50 {p50:.0f} ms, p99 {p99:.0f} ms, max {latencies[-1] * 1000:.0f} ms, "
+        f"statuses {dict(sorted(statuses.items()))}, 5xx: {server_errors}"
+    )
+    SCREENSHOTS.mkdir(parents=True, exist_ok=True)
+    (SCREENSHOTS / "load-test.txt").write_text(figures + "\n")
+    with capsys.disabled():
+        print("\n" + figures)
+
+    assert server_errors == 0
+    assert not [failure for client in clients for failure in client.failures]
+    assert created > CLIENTS
+
+    with contextlib.closing(sqlite3.connect(data / db.FILENAME)) as conn:
+        assert conn.execute("PRAGMA integrity_check").fetchone()[0] == "ok"
+        rows = {row[0]: row[1:] for row in conn.execute("SELECT id, title, version FROM snippet")}
+    assert len(rows) == created, "snippets lost or added twice"
+    for client in clients:
+        for snippet_id, info in client.mine.items():
+            assert rows[snippet_id] == (info["title"], info["version"])
