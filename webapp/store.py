@@ -141,9 +141,28 @@ def compute(kind: str, inputs, calculations: dict) -> dict:
 # --- reading -------------------------------------------------------------------
 
 
-def _row_to_snippet(conn, row) -> dict:
-    rows = conn.execute("SELECT tag FROM snippet_tag WHERE snippet_id = ? ORDER BY tag", (row["id"],))
-    tags = [r["tag"] for r in rows]
+def _tags_of(conn, ids: list[int]) -> dict[int, list[str]]:
+    """Each snippet's tags, in one query for a whole page of snippets."""
+    tags: dict[int, list[str]] = {snippet_id: [] for snippet_id in ids}
+    for start in range(0, len(ids), 500):
+        chunk = ids[start : start + 500]
+        marks = ", ".join("?" * len(chunk))
+        rows = conn.execute(
+            f"SELECT snippet_id, tag FROM snippet_tag WHERE snippet_id IN ({marks}) ORDER BY tag", chunk
+        )
+        for row in rows:
+            tags[row["snippet_id"]].append(row["tag"])
+    return tags
+
+
+def _rows_to_snippets(conn, rows) -> list[dict]:
+    tags = _tags_of(conn, [row["id"] for row in rows])
+    return [_row_to_snippet(conn, row, tags[row["id"]]) for row in rows]
+
+
+def _row_to_snippet(conn, row, tags: list[str] | None = None) -> dict:
+    if tags is None:
+        tags = _tags_of(conn, [row["id"]])[row["id"]]
     return {
         "id": row["id"],
         "uid": row["uid"],
@@ -204,7 +223,7 @@ def search(conn, q: str = "", *, press: str = "", kind: str = "", limit: int = 5
         f"SELECT s.* FROM snippet s WHERE {condition} ORDER BY s.updated_at DESC, s.id DESC LIMIT ? OFFSET ?",
         [*params, limit, offset],
     ).fetchall()
-    return [_row_to_snippet(conn, row) for row in rows], total
+    return _rows_to_snippets(conn, rows), total
 
 
 def presses(conn) -> list[str]:
@@ -219,7 +238,7 @@ def in_bin(conn, now: datetime | None = None) -> list[dict]:
     """Snippets in the bin, most recently deleted first (older than ``BIN_DAYS`` are purged first)."""
     purge(conn, now)
     rows = conn.execute("SELECT * FROM snippet WHERE deleted_at IS NOT NULL ORDER BY deleted_at DESC, id DESC")
-    return [_row_to_snippet(conn, row) for row in rows.fetchall()]
+    return _rows_to_snippets(conn, rows.fetchall())
 
 
 def purge_date(snippet: dict) -> str:
@@ -453,7 +472,7 @@ EXPORT_FIELDS = (
 def export_all(conn, now: datetime | None = None) -> dict:
     """Every snippet not in the bin, oldest first, as the JSON export file holds them."""
     rows = conn.execute("SELECT * FROM snippet WHERE deleted_at IS NULL ORDER BY created_at, id").fetchall()
-    snippets = [{name: snippet[name] for name in EXPORT_FIELDS} for snippet in (_row_to_snippet(conn, r) for r in rows)]
+    snippets = [{name: snippet[name] for name in EXPORT_FIELDS} for snippet in _rows_to_snippets(conn, rows)]
     return {"format": EXPORT_FORMAT, "format_version": 1, "exported_at": now_text(now), "snippets": snippets}
 
 
@@ -468,7 +487,7 @@ def export_csv(conn) -> str:
     writer = csv.writer(out)
     writer.writerow(["id", *EXPORT_FIELDS])
     rows = conn.execute("SELECT * FROM snippet WHERE deleted_at IS NULL ORDER BY created_at, id").fetchall()
-    for snippet in (_row_to_snippet(conn, row) for row in rows):
+    for snippet in _rows_to_snippets(conn, rows):
         cells = [snippet["id"]]
         for name in EXPORT_FIELDS:
             value = snippet[name]
