@@ -52,7 +52,8 @@ def test_the_save_button_under_a_film_result_leads_to_a_save_form_with_the_resul
     assert form.status_code == 200
     page = text(form)
     assert "Save this film chain" in page
-    assert "Substrate wet" in page
+    # 4 BCM/in² = 6.2 µm of cells (NIST SP 811 inch); half of half reaches the substrate
+    assert re.search(r"Substrate wet</dt>\s*<dd><span class=\"num\">1.55</span> µm</dd>", page)
     assert 'name="title" type="text" value="Film chain: 4.0 BCM/in2"' in page
     assert 'name="job_number"' in page and 'name="saved_by"' in page
 
@@ -113,7 +114,7 @@ def test_a_snippet_page_shows_inputs_results_share_link_and_qr(client):
     snippet_id = save(client, notes="line one\nline two", tags="white, handover", job_number="24-0117")
     page = text(client.get(f"/snippets/{snippet_id}"))
     assert "Results as saved" in page and "Substrate wet" in page
-    assert "Anilox volume" in page and "4 BCM/in2" in page
+    assert "Anilox volume" in page and "4 BCM/in²" in page and "50 %" in page
     assert f"http://localhost/s/{snippet_id}" in page
     assert f'src="/snippets/{snippet_id}/qr.svg"' in page
     qr = client.get(f"/snippets/{snippet_id}/qr.svg")

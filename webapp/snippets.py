@@ -97,6 +97,32 @@ def when(stamp: str | None) -> str:
     return f"{stamp[:10]} {stamp[11:16]} UTC" if stamp else ""
 
 
+SHARES = {
+    "anilox_to_plate",
+    "plate_to_substrate",
+    "solids_by_volume",
+    "solids_by_weight",
+    "coverage",
+    "transfer",
+    "waste",
+}
+
+
+@bp.app_template_global("shown")
+def shown(key, value) -> str:
+    """An input as the floor reads it: shares as percentages, units with their superscripts.
+
+    >>> shown("coverage", 0.455), shown("anilox_volume", "4.5 BCM/in2"), shown("name", "Cyan")
+    ('45.5 %', '4.5 BCM/in²', 'Cyan')
+    """
+    if key in SHARES and isinstance(value, int | float) and not isinstance(value, bool):
+        return f"{value:.4%}".rstrip("%").rstrip("0").rstrip(".") + " %"
+    if isinstance(value, str) and " " in value.strip():
+        amount, _, spelling = value.strip().rpartition(" ")
+        return f"{amount} {unit(spelling)}"
+    return number(value)
+
+
 @bp.app_template_global("is_quantity")
 def is_quantity(value) -> bool:
     return isinstance(value, dict) and set(value) == {"value", "unit"}
