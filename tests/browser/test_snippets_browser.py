@@ -85,3 +85,57 @@ def test_save_find_share_and_edit_on_two_phones(open_context, screenshots):
     # Nothing was overwritten silently.
     operator.reload()
     expect(operator.get_by_text("Blade changed at 14:00.")).to_be_visible()
+
+
+def test_axe_finds_no_serious_problems_on_the_snippet_pages(open_context, axe_source):
+    # The CSP forbids inline scripts, axe's included: this context bypasses it.
+    page = open_context(PHONE, bypass_csp=True).new_page()
+    body = {
+        "kind": "estimate",
+        "title": "Axe check: two stations",
+        "job_number": "24-0001",
+        "notes": "checked",
+        "tags": ["axe"],
+        "inputs": {
+            "web_width": "330 mm",
+            "run_length": "1000 m",
+            "stations": [
+                {
+                    "name": "Cyan",
+                    "anilox_volume": "3 BCM/in2",
+                    "coverage": 0.4,
+                    "transfer": 0.3,
+                    "ink_density": "1 g/cm3",
+                },
+                {
+                    "name": "Black",
+                    "anilox_volume": "3 BCM/in2",
+                    "coverage": 0.2,
+                    "transfer": 0.3,
+                    "ink_density": "1 g/cm3",
+                },
+            ],
+        },
+    }
+    snippet = page.request.post("/api/v1/snippets", data=body).json()
+    paths = [
+        "/snippets",
+        f"/snippets/{snippet['id']}?rerun=1",
+        f"/snippets/{snippet['id']}/edit",
+        "/snippets/bin",
+        "/snippets/import",
+        "/settings",
+    ]
+    for path in paths:
+        page.goto(path)
+        no_sideways_scroll(page)
+        page.add_script_tag(content=axe_source)
+        for scheme in ("light", "dark"):
+            page.emulate_media(color_scheme=scheme)
+            result = page.evaluate("async () => await axe.run(document, {resultTypes: ['violations']})")
+            serious = [
+                (v["id"], v["impact"], [n["target"] for n in v["nodes"]][:3])
+                for v in result["violations"]
+                if v["impact"] in ("serious", "critical")
+            ]
+            assert serious == [], f"{path} ({scheme})"
