@@ -88,6 +88,7 @@ def live_server(tmp_path_factory):
     yield base
     process.terminate()
     process.wait(timeout=10)
+    process.stdout.close()
 
 
 @pytest.fixture(scope="session")

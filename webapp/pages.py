@@ -44,6 +44,22 @@ def init_app(app) -> None:
     app.register_blueprint(bp)
     security.init_app(app)
     Compress(app)
+    app.after_request(cache_versioned_assets)
+    app.add_template_global(asset)
+
+
+def asset(filename: str) -> str:
+    """The address of a static file with this build's version: cached for a year, renewed by each build."""
+    return url_for("static", filename=filename, v=build_version())
+
+
+def cache_versioned_assets(response: Response) -> Response:
+    if request.endpoint == "static" and request.args.get("v") == build_version() and response.status_code == 200:
+        response.cache_control.no_cache = None
+        response.cache_control.public = True
+        response.cache_control.max_age = ONE_YEAR
+        response.cache_control.immutable = True
+    return response
 
 
 @bp.app_template_filter("unit_label")
@@ -345,8 +361,6 @@ STATIC_FILES = (
     "inkfilm.js",
     "inkfilm.webmanifest",
     "icons/inkfilm.svg",
-    "icons/inkfilm-192.png",
-    "icons/inkfilm-512.png",
 )
 
 
@@ -368,7 +382,7 @@ def build_version() -> str:
 
 @bp.get("/sw.js")
 def service_worker():
-    shell = list(SHELL_PAGES) + [url_for("static", filename=name) for name in STATIC_FILES]
+    shell = list(SHELL_PAGES) + [asset(name) for name in STATIC_FILES]
     body = render_template("sw.js", version=build_version(), shell=shell)
     response = make_response(body)
     response.mimetype = "text/javascript"

@@ -96,5 +96,6 @@ def estimate(job, system: str) -> dict:
         "total_mass": both(job.total_ink_mass, "mass", system),
         "total_volume": both(job.total_ink_volume, "volume", system),
         "total_cost": None if job.total_cost is None else format_money(job.total_cost),
+        "priced": any(station.cost is not None for station in job.stations),
         "steps": steps(job.steps, system),
     }

@@ -9,7 +9,8 @@ const SHELL_PAGES = new Set(["/", "/film", "/estimate", "/offline"]);
 
 self.addEventListener("install", (event) => {
   event.waitUntil(
-    caches.open(CACHE).then((cache) => cache.addAll(SHELL.map((url) => new Request(url, { cache: "reload" }))))
+    // Versioned static files come from the HTTP cache when the page just loaded them.
+    caches.open(CACHE).then((cache) => cache.addAll(SHELL))
       .then(() => self.skipWaiting())
   );
 });

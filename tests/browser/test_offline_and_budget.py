@@ -1,0 +1,115 @@
+"""The installable app: service worker and offline state, page weight over
+the wire, and the time from the last keystroke to the updated result."""
+
+from __future__ import annotations
+
+import statistics
+
+import pytest
+from playwright.sync_api import expect
+
+from tests.browser.conftest import PHONE, record_measurement
+
+pytestmark = pytest.mark.browser
+
+BUDGET = 60 * 1024  # bytes over the wire for the first load of the converter page
+
+
+def wait_for_worker(page):
+    """Until the service worker controls the page and has cached the app shell."""
+    page.wait_for_function("() => navigator.serviceWorker.controller !== null")
+    page.wait_for_function(
+        """async () => {
+            const names = await caches.keys();
+            if (!names.length) return false;
+            const cache = await caches.open(names[0]);
+            return (await cache.keys()).length >= 10;
+        }"""
+    )
+
+
+def test_the_app_opens_offline_and_says_the_server_is_out_of_reach(open_context, screenshots):
+    context = open_context(PHONE, service_workers="allow")
+    page = context.new_page()
+    page.goto("/")
+    wait_for_worker(page)
+    expect(page.locator("#reach")).to_be_hidden()
+    context.set_offline(True)
+    page.reload()
+    expect(page.get_by_role("heading", name="Convert a value")).to_be_visible()
+    expect(page.locator("#reach")).to_be_visible()
+    expect(page.locator("#reach")).to_contain_text("out of reach")
+    page.get_by_label("Value").fill("4.5")  # a calculation that cannot reach the server
+    expect(page.locator("#converter-result")).to_have_class("result is-stale")
+    page.screenshot(path=str(screenshots / "offline-converters-phone.png"), full_page=True)
+    page.goto("/film")  # every page of the shell opens
+    expect(page.get_by_role("heading", name="Film chain")).to_be_visible()
+    page.goto("/snippets")  # live data is never served from the cache
+    expect(page.get_by_role("heading", name="The inkfilm server is out of reach")).to_be_visible()
+    context.set_offline(False)
+    page.goto("/")
+    page.get_by_label("Value").fill("4.5")
+    expect(page.locator('[data-group="film_thickness"]')).to_contain_text("6.98")
+    expect(page.locator("#reach")).to_be_hidden()
+
+
+def test_page_weight_first_and_repeat_load(open_context, wire):
+    context = open_context(PHONE, service_workers="allow", guard=False, base_url=wire.base)
+    page = context.new_page()
+    wire.reset()
+    page.goto("/")
+    wait_for_worker(page)
+    page.wait_for_load_state("networkidle")
+    first = wire.reset()
+    record_measurement(f"first load of / (page, service worker and its app-shell cache): {first} bytes over the wire")
+    assert first <= BUDGET
+
+    over_the_wire = []
+
+    def finished(request):
+        response = request.response()
+        if response is not None and not response.from_service_worker:
+            over_the_wire.append((request.method, request.url, request.headers.get("hx-request")))
+
+    context.on("requestfinished", finished)
+    page.reload()
+    expect(page.get_by_role("heading", name="Convert a value")).to_be_visible()
+    page.wait_for_load_state("networkidle")
+    page.get_by_label("Value").fill("4.5")
+    expect(page.locator('[data-group="film_thickness"]')).to_contain_text("6.98")
+    page.wait_for_load_state("networkidle")
+    repeat = wire.reset()
+    record_measurement(f"repeat load of / and one calculation: {repeat} bytes over the wire; requests {over_the_wire}")
+    assert over_the_wire, "the calculation went to the server"
+    assert all(method == "POST" and hx == "true" for method, _, hx in over_the_wire)
+
+
+def test_time_from_last_keystroke_to_result(open_context):
+    page = open_context(PHONE).new_page()
+    page.goto("/")
+    page.evaluate(
+        """() => {
+            window.swaps = [];
+            document.getElementById('value').addEventListener('keydown', () => { window.lastKey = performance.now(); });
+            document.body.addEventListener('htmx:afterSwap', (event) => {
+                if (event.detail.target.id !== 'converter-result') return;
+                window.swaps.push(performance.now() - window.lastKey);
+            });
+        }"""
+    )
+    field = page.get_by_label("Value")
+    timings = []
+    for trial in range(7):
+        field.click()
+        field.press("Control+A")
+        before = page.evaluate("() => window.swaps.length")
+        field.press_sequentially(f"{trial + 2}.{trial}5", delay=25)
+        page.wait_for_function("(before) => window.swaps.length > before", arg=before)
+        expect(page.locator('[data-group="volume_per_area"] li').nth(1)).to_contain_text(f"{trial + 2}.{trial}5")
+        timings.append(page.evaluate("() => window.swaps[window.swaps.length - 1]"))
+    median = statistics.median(timings)
+    record_measurement(
+        "last keystroke to updated result (90 ms debounce included), loopback: "
+        f"median {median:.0f} ms, max {max(timings):.0f} ms over {len(timings)} tries"
+    )
+    assert median < 150
