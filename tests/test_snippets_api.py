@@ -202,3 +202,10 @@ def test_csv_export(client):
 def test_the_calculation_endpoints_are_unchanged(client):
     response = client.post("/api/v1/film", json=FILM)
     assert response.get_json() == CALCULATIONS["film"](FILM)
+
+
+def test_without_passcodes_a_passcode_sent_anyway_is_not_in_the_way(client):
+    response = client.post(
+        URL, json={"kind": "film", "inputs": FILM, "title": "x"}, headers={"X-Inkfilm-Passcode": "anything"}
+    )
+    assert response.status_code == 201

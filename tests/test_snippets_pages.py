@@ -218,3 +218,16 @@ def test_pages_carry_no_inline_script_or_style(client):
         assert "style=" not in page, path
         assert not re.search(r"<script(?![^>]*\bsrc=)", page), path
         assert " on" + "click=" not in page
+
+
+def test_an_edit_of_a_snippet_deleted_meanwhile_keeps_what_was_typed(client):
+    snippet_id = save(client)
+    token = csrf(client)
+    client.post(f"/snippets/{snippet_id}/delete", data={"csrf_token": token})
+    response = client.post(
+        f"/snippets/{snippet_id}/edit", data={"csrf_token": token, "version": "1", "title": "x", "notes": "my words"}
+    )
+    assert response.status_code == 409
+    page = text(response)
+    assert "Deleted by someone else meanwhile" in page and "my words" in page
+    assert client.post("/snippets/999/edit", data={"csrf_token": token, "version": "1"}).status_code == 404

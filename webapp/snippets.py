@@ -351,8 +351,17 @@ def edit(snippet_id: int):
 
 @bp.post("/snippets/<int:snippet_id>/edit")
 def update(snippet_id: int):
-    snippet = _load(snippet_id)
     meta = _form_meta()
+    try:
+        snippet = store.get(get_db(), snippet_id)
+    except store.NotFound:
+        # Deleted while this person was editing: keep their words on screen, say where it went.
+        try:
+            snippet = store.get(get_db(), snippet_id, deleted=True)
+        except store.NotFound:
+            abort(404)
+        message = "Deleted by someone else meanwhile: it is in the bin. Restore it from the bin, then save again."
+        return _edit_form(snippet, meta, version=request.form.get("version", ""), errors={"form": message}, status=409)
     version = request.form.get("version", "")
     message, status = _gate("write")
     if message:
