@@ -209,3 +209,8 @@ def test_without_passcodes_a_passcode_sent_anyway_is_not_in_the_way(client):
         URL, json={"kind": "film", "inputs": FILM, "title": "x"}, headers={"X-Inkfilm-Passcode": "anything"}
     )
     assert response.status_code == 201
+
+
+def test_rerun_in_an_update_must_be_true_or_false(client):
+    snippet = new(client)
+    assert_error(client.put(f"{URL}/{snippet['id']}", json={"version": 1, "rerun": "yes"}), 400, "rerun")

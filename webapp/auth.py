@@ -97,17 +97,23 @@ def init_app(app) -> None:
 def _secret_key(data_dir: Path) -> bytes:
     """The key that signs session cookies: made once, kept in the data folder (0600), so unlocks survive restarts."""
     path = data_dir / "secret_key"
-    try:
-        fd = os.open(path, os.O_WRONLY | os.O_CREAT | os.O_EXCL, 0o600)
-    except FileExistsError:
-        key = path.read_bytes()
-        if len(key) >= 32:
-            return key
-        path.unlink()
-        return _secret_key(data_dir)
-    with os.fdopen(fd, "wb") as out:
-        out.write(secrets.token_bytes(32))
-    return path.read_bytes()
+    if not path.exists():
+        # Written whole to a private file, then linked into place: two servers
+        # starting at once agree on one key and never read half of one.
+        partial = data_dir / f"secret_key.{os.getpid()}.partial"
+        fd = os.open(partial, os.O_WRONLY | os.O_CREAT | os.O_TRUNC, 0o600)
+        with os.fdopen(fd, "wb") as out:
+            out.write(secrets.token_bytes(32))
+        try:
+            os.link(partial, path)
+        except FileExistsError:
+            pass
+        finally:
+            partial.unlink()
+    key = path.read_bytes()
+    if len(key) < 32:
+        raise RuntimeError(f"{path} is damaged (shorter than 32 bytes); delete it and start again")
+    return key
 
 
 # --- slowing down guessing ----------------------------------------------------------

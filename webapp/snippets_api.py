@@ -154,7 +154,9 @@ def update_snippet(snippet_id: int):
     body = check_fields(request_body(), {"version"}, UPDATE_FIELDS | {"rerun"})
     version = body.pop("version")
     results = None
-    if body.pop("rerun", False) is True:
+    if not isinstance(body.get("rerun", False), bool):
+        raise InputError("rerun", "must be true (keep today's results) or false")
+    if body.pop("rerun", False):
         rerun = store.rerun(store.get(get_db(), snippet_id), CALCULATIONS)
         if rerun.error is not None:
             raise rerun.error
