@@ -44,7 +44,7 @@ def init_app(app) -> None:
     app.register_blueprint(bp)
     security.init_app(app)
     Compress(app)
-    app.after_request(cache_versioned_assets)
+    app.after_request(prepare_static)
     app.add_template_global(asset)
 
 
@@ -53,8 +53,14 @@ def asset(filename: str) -> str:
     return url_for("static", filename=filename, v=build_version())
 
 
-def cache_versioned_assets(response: Response) -> Response:
-    if request.endpoint == "static" and request.args.get("v") == build_version() and response.status_code == 200:
+def prepare_static(response: Response) -> Response:
+    """Static files: read into memory (they are small) so that they are compressed
+    whole and the file is closed with the response; versioned ones cached for long."""
+    if request.endpoint != "static" or response.status_code != 200:
+        return response
+    response.direct_passthrough = False
+    response.make_sequence()
+    if request.args.get("v") == build_version():
         response.cache_control.no_cache = None
         response.cache_control.public = True
         response.cache_control.max_age = ONE_YEAR
