@@ -309,3 +309,33 @@ def test_manifest_and_icons(client):
     for icon in manifest["icons"]:
         with client.get(icon["src"]) as response:
             assert response.status_code == 200
+
+
+@pytest.mark.parametrize("path", ["/", "/film", "/estimate"])
+@pytest.mark.parametrize(
+    "junk",
+    ["", " ", "-1", "1e999", "nan", "∞", "4,5,6", "<script>", "9" * 50, "0", "1e-300"],
+)
+def test_any_typed_junk_gives_a_message_never_a_500(client, path, junk):
+    names = {
+        "/": ["value", "unit", "density", "density_unit", "coverage"],
+        "/film": list(FILM_FIELDS),
+        "/estimate": list(estimate_form()) + ["action"],
+    }[path]
+    for name in names:
+        for headers in ({}, HX):
+            response = client.post(path, data={"value": "4", name: junk}, headers=headers)
+            assert response.status_code == 200, (name, junk)
+            assert "<script>" not in text(response)
+
+
+FILM_FIELDS = (
+    "anilox_volume",
+    "anilox_unit",
+    "anilox_to_plate",
+    "plate_to_substrate",
+    "ink_density",
+    "ink_density_unit",
+    "solids_by_volume",
+    "solids_by_weight",
+)
