@@ -74,6 +74,18 @@
     if (liveForms().length) refreshResults(); else window.location.reload();
   });
 
+  // --- Mark the fields that have a message beside them -------------------------
+  function markInvalid() {
+    document.querySelectorAll(".error-slot").forEach(function (slot) {
+      document.querySelectorAll('[aria-describedby~="' + slot.id + '"]').forEach(function (control) {
+        if (slot.querySelector(".field-error")) control.setAttribute("aria-invalid", "true");
+        else control.removeAttribute("aria-invalid");
+      });
+    });
+  }
+  document.body.addEventListener("htmx:afterSettle", markInvalid);
+  markInvalid();
+
   // --- Print --------------------------------------------------------------------
   document.body.addEventListener("click", function (event) {
     if (event.target.closest && event.target.closest("[data-print]")) window.print();

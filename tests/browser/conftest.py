@@ -147,9 +147,12 @@ def wire(live_server):
     counter.close()
 
 
+_measured_this_run: list[str] = []
+
+
 def record_measurement(line: str) -> None:
-    """Print a measured figure and keep it in tests/screenshots/measurements.txt."""
+    """Print a measured figure and keep this run's figures in tests/screenshots/page-measurements.txt."""
     print(line)
+    _measured_this_run.append(line)
     SCREENSHOTS.mkdir(parents=True, exist_ok=True)
-    with (SCREENSHOTS / "measurements.txt").open("a", encoding="utf-8") as out:
-        out.write(line + "\n")
+    (SCREENSHOTS / "page-measurements.txt").write_text("\n".join(_measured_this_run) + "\n", encoding="utf-8")

@@ -46,8 +46,10 @@ def test_a_bad_value_shows_a_message_beside_its_field(open_context):
     page.goto("/")
     page.get_by_label("Value").fill("4..5")
     expect(page.locator("#value-error")).to_contain_text("not a number")
+    expect(page.get_by_label("Value")).to_have_attribute("aria-invalid", "true")
     page.get_by_label("Value").fill("4.5")
     expect(page.locator("#value-error")).to_be_empty()
+    expect(page.get_by_label("Value")).not_to_have_attribute("aria-invalid", "true")
     expect(page.locator('[data-group="film_thickness"]')).to_contain_text("6.98")
 
 
