@@ -162,6 +162,7 @@ ROLE_UNITS = {
         "mass": ("kg", "lb"),
         "volume": ("l", "gal"),
         "density": ("g/cm3", "lb/gal"),
+        "mileage": ("m2/kg", "ft2/lb"),
     },
     "imperial": {
         "anilox": ("BCM/in2", "cm3/m2"),
@@ -173,6 +174,7 @@ ROLE_UNITS = {
         "mass": ("lb", "kg"),
         "volume": ("gal", "l"),
         "density": ("lb/gal", "g/cm3"),
+        "mileage": ("ft2/lb", "m2/kg"),
     },
 }
 
@@ -282,6 +284,7 @@ _CORE_UNIT_ROLES = {
     "meter": "length",
     "kilogram": "mass",
     "liter": "volume",
+    "meter ** 2 / kilogram": "mileage",
 }
 _PINT_LABEL_FIXES = {"th": "mil", "lpcm": "lines/cm", "gal": "US gal"}
 
