@@ -35,7 +35,8 @@
 
   var system = savedSystem();
   if (system) {
-    rememberSystem(system); // renews the cookie from localStorage if it was cleared
+    // Renew the cookie (from localStorage if the cookie was cleared); the cached pages are fine.
+    document.cookie = COOKIE + "=" + system + "; path=/; max-age=31536000; samesite=lax";
     document.querySelectorAll('.units-form input[name="system"]').forEach(function (input) {
       input.checked = input.value === system;
     });
