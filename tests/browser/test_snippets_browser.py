@@ -44,6 +44,8 @@ def test_save_find_share_and_edit_on_two_phones(open_context, screenshots):
 
     # Next shift: find it by job number on the Saved page.
     operator.get_by_role("link", name="Saved").click()
+    # Type only once the page (and htmx with it) has loaded, as a person would.
+    operator.wait_for_load_state("load")
     operator.get_by_label("Find").fill(job)
     result = operator.locator("#snippet-results").get_by_role("link", name=f"Station 3 film, job {job}")
     expect(result).to_be_visible()
