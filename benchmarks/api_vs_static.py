@@ -18,7 +18,6 @@ import argparse
 import http.client
 import json
 import os
-import socket
 import statistics
 import subprocess
 import sys
@@ -28,13 +27,11 @@ import time
 from pathlib import Path
 
 ROOT = Path(__file__).resolve().parent.parent
+sys.path.insert(0, str(ROOT))
+
+from tests.conftest import drain, start_server  # noqa: E402  (the server exactly as the tests start it)
+
 CONVERT_BODY = json.dumps({"quantity": "3.5 BCM/in2", "to": "cm3/m2"}).encode()
-
-
-def free_port() -> int:
-    with socket.socket() as sock:
-        sock.bind(("127.0.0.1", 0))
-        return sock.getsockname()[1]
 
 
 def smallest_static_file() -> str:
@@ -45,36 +42,18 @@ def smallest_static_file() -> str:
     return "/static/" + min(candidates, key=lambda p: p.stat().st_size).relative_to(ROOT / "static").as_posix()
 
 
-def start_server(port: int, data_dir: str) -> tuple[subprocess.Popen, float]:
-    start = time.perf_counter()
-    process = subprocess.Popen(
-        [
-            sys.executable,
-            "-m",
-            "webapp.cli",
-            "serve",
-            "--host",
-            "127.0.0.1",
-            "--port",
-            str(port),
-            "--data-dir",
-            data_dir,
-        ],
-        cwd=ROOT,
-        stdout=subprocess.DEVNULL,
-        stderr=subprocess.DEVNULL,
-    )
-    while True:
-        try:
-            connection = http.client.HTTPConnection("127.0.0.1", port, timeout=2)
-            connection.request("POST", "/api/v1/convert", CONVERT_BODY, {"Content-Type": "application/json"})
-            if connection.getresponse().status == 200:
-                return process, time.perf_counter() - start
-        except OSError:
-            if time.perf_counter() - start > 30:
-                process.kill()
-                raise SystemExit("the server did not answer within 30 s") from None
-            time.sleep(0.01)
+def start_and_time(data_dir: str) -> tuple[subprocess.Popen, int, float]:
+    """Start the server as the tests do; seconds from launch to the first calculation answered."""
+    began = time.perf_counter()
+    process, base = start_server(Path(data_dir))
+    drain(process)
+    port = int(base.rsplit(":", 1)[1])
+    connection = http.client.HTTPConnection("127.0.0.1", port, timeout=5)
+    connection.request("POST", "/api/v1/convert", CONVERT_BODY, {"Content-Type": "application/json"})
+    if connection.getresponse().status != 200:
+        raise SystemExit("the first calculation was not answered")
+    connection.close()
+    return process, port, time.perf_counter() - began
 
 
 def drive(port: int, method: str, path: str, body: bytes | None, connections: int, seconds: float) -> dict:
@@ -130,9 +109,8 @@ def main(argv: list[str] | None = None) -> int:
     args = parser.parse_args(argv)
     static_path = args.static or smallest_static_file()
 
-    port = free_port()
     with tempfile.TemporaryDirectory() as data_dir:
-        process, startup = start_server(port, data_dir)
+        process, port, startup = start_and_time(data_dir)
         try:
             # Warm both paths (caches, lazy imports) before measuring.
             drive(port, "GET", static_path, None, args.connections, 1.0)
@@ -142,6 +120,7 @@ def main(argv: list[str] | None = None) -> int:
         finally:
             process.terminate()
             process.wait(timeout=10)
+            process.stdout.close()
 
     print(f"machine: {os.cpu_count()} cores; {args.connections} connections; {args.seconds:g} s per target; loopback")
     print(f"start-up to first calculation answered: {startup:.2f} s (target < 2 s)")

@@ -7,6 +7,7 @@ import os
 import socket
 import subprocess
 import sys
+import threading
 import time
 import urllib.request
 from pathlib import Path
@@ -81,13 +82,28 @@ def start_server(data_dir: Path, *extra: str, env: dict | None = None):
     return process, base
 
 
+def drain(process) -> threading.Thread:
+    """Read the server's output so that a full pipe never stalls it (waitress
+    warns on stderr whenever its task queue backs up under load)."""
+
+    def read():
+        for _line in process.stdout:
+            pass
+
+    thread = threading.Thread(target=read, daemon=True)
+    thread.start()
+    return thread
+
+
 @pytest.fixture(scope="session")
 def live_server(tmp_path_factory):
     """A real waitress server, as the README starts it, for browser tests."""
     process, base = start_server(tmp_path_factory.mktemp("live-data"))
+    reader = drain(process)
     yield base
     process.terminate()
     process.wait(timeout=10)
+    reader.join(timeout=5)
     process.stdout.close()
 
 

@@ -19,7 +19,7 @@ import time
 
 import pytest
 
-from tests.conftest import SCREENSHOTS, start_server
+from tests.conftest import SCREENSHOTS, drain, start_server
 from webapp import db
 
 pytestmark = pytest.mark.slow
@@ -27,18 +27,6 @@ pytestmark = pytest.mark.slow
 KILLS = 8
 CLIENTS = 6
 FILM = {"anilox_volume": "4 BCM/in2", "anilox_to_plate": 0.5, "plate_to_substrate": 0.5}
-
-
-def drain(process) -> threading.Thread:
-    """Read the server's output so that a full pipe never stalls it."""
-
-    def read():
-        for _line in process.stdout:
-            pass
-
-    thread = threading.Thread(target=read, daemon=True)
-    thread.start()
-    return thread
 
 
 def saver(base: str, name: str, acknowledged: dict, lock: threading.Lock, stop: threading.Event) -> None:

@@ -19,7 +19,7 @@ import time
 
 import pytest
 
-from tests.conftest import SCREENSHOTS, start_server
+from tests.conftest import SCREENSHOTS, drain, start_server
 from webapp import db
 
 pytestmark = pytest.mark.slow
@@ -96,13 +96,7 @@ class Client(threading.Thread):
 def test_32_clients_for_30_seconds(tmp_path, capsys):
     data = tmp_path / "data"
     process, base = start_server(data)
-
-    def read():
-        for _line in process.stdout:
-            pass
-
-    reader = threading.Thread(target=read, daemon=True)
-    reader.start()
+    reader = drain(process)
     try:
         deadline = time.monotonic() + SECONDS
         clients = [Client(base, f"client{n:02d}", deadline) for n in range(CLIENTS)]
