@@ -255,33 +255,52 @@ def _write_tags(conn, snippet_id: int, tags: list[str]) -> None:
     conn.executemany("INSERT INTO snippet_tag (snippet_id, tag) VALUES (?, ?)", [(snippet_id, tag) for tag in tags])
 
 
+def _insert(conn, row: dict):
+    """Insert one snippet and its tags, unless its ``uid`` is here already; the cursor
+    (``rowcount`` 0 when it was)."""
+    cursor = conn.execute(
+        "INSERT INTO snippet (uid, kind, title, job_number, press, station, notes, saved_by,"
+        " inputs, results, created_at, updated_at, version)"
+        " VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?) ON CONFLICT (uid) DO NOTHING",
+        (
+            row["uid"],
+            row["kind"],
+            row["title"],
+            row.get("job_number", ""),
+            row.get("press", ""),
+            row.get("station", ""),
+            row.get("notes", ""),
+            row.get("saved_by", ""),
+            json.dumps(row["inputs"], ensure_ascii=False),
+            json.dumps(row["results"], ensure_ascii=False),
+            row["created_at"],
+            row["updated_at"],
+            row["version"],
+        ),
+    )
+    if cursor.rowcount == 1:
+        _write_tags(conn, cursor.lastrowid, row.get("tags", []))
+    return cursor
+
+
 def create(conn, kind: str, inputs: dict, meta: dict, calculations: dict, *, now: datetime | None = None) -> dict:
     """Work out ``inputs`` with today's core and save it with ``meta``; the new snippet."""
     kind = check_kind(kind, calculations)
     meta = check_meta(meta)
     results = compute(kind, inputs, calculations)
     stamp = now_text(now)
+    row = {
+        **meta,
+        "uid": uuid.uuid4().hex,
+        "kind": kind,
+        "inputs": inputs,
+        "results": results,
+        "created_at": stamp,
+        "updated_at": stamp,
+        "version": 1,
+    }
     with transaction(conn):
-        cursor = conn.execute(
-            "INSERT INTO snippet (uid, kind, title, job_number, press, station, notes, saved_by,"
-            " inputs, results, created_at, updated_at, version)"
-            " VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, 1)",
-            (
-                uuid.uuid4().hex,
-                kind,
-                meta["title"],
-                meta.get("job_number", ""),
-                meta.get("press", ""),
-                meta.get("station", ""),
-                meta.get("notes", ""),
-                meta.get("saved_by", ""),
-                json.dumps(inputs, ensure_ascii=False),
-                json.dumps(results, ensure_ascii=False),
-                stamp,
-                stamp,
-            ),
-        )
-        _write_tags(conn, cursor.lastrowid, meta.get("tags", []))
+        cursor = _insert(conn, row)
     return get(conn, cursor.lastrowid)
 
 
@@ -549,27 +568,6 @@ def import_all(conn, data) -> dict:
     added = 0
     with transaction(conn):
         for item in checked:
-            cursor = conn.execute(
-                "INSERT INTO snippet (uid, kind, title, job_number, press, station, notes, saved_by,"
-                " inputs, results, created_at, updated_at, version)"
-                " VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?) ON CONFLICT (uid) DO NOTHING",
-                (
-                    item["uid"],
-                    item["kind"],
-                    item["title"],
-                    item.get("job_number", ""),
-                    item.get("press", ""),
-                    item.get("station", ""),
-                    item.get("notes", ""),
-                    item.get("saved_by", ""),
-                    json.dumps(item["inputs"], ensure_ascii=False),
-                    json.dumps(item["results"], ensure_ascii=False),
-                    item["created_at"],
-                    item["updated_at"],
-                    item["version"],
-                ),
-            )
-            if cursor.rowcount == 1:
+            if _insert(conn, item).rowcount == 1:
                 added += 1
-                _write_tags(conn, cursor.lastrowid, item.get("tags", []))
     return {"added": added, "already_here": len(checked) - added}

@@ -27,6 +27,27 @@ def axe_source() -> str:
 
 
 @pytest.fixture(scope="session")
+def check_axe(axe_source):
+    """``check_axe(page, label)``: run axe-core on the page in light and dark;
+    fail on any serious or critical violation. The page's context must bypass
+    the CSP, which (rightly) refuses axe's injected script otherwise."""
+
+    def check(page, label: str) -> None:
+        page.add_script_tag(content=axe_source)
+        for scheme in ("light", "dark"):
+            page.emulate_media(color_scheme=scheme)
+            result = page.evaluate("async () => await axe.run(document, {resultTypes: ['violations']})")
+            serious = [
+                (v["id"], v["impact"], [n["target"] for n in v["nodes"]][:3])
+                for v in result["violations"]
+                if v["impact"] in ("serious", "critical")
+            ]
+            assert serious == [], f"{label} ({scheme})"
+
+    return check
+
+
+@pytest.fixture(scope="session")
 def screenshots() -> Path:
     SCREENSHOTS.mkdir(parents=True, exist_ok=True)
     return SCREENSHOTS

@@ -199,23 +199,14 @@ def test_pages_ask_no_other_host_and_break_no_policy(open_context, live_server):
 
 
 @pytest.mark.parametrize("path", PAGES)
-def test_axe_finds_no_serious_problems(open_context, axe_source, path):
+def test_axe_finds_no_serious_problems(open_context, check_axe, path):
     # The CSP forbids inline scripts, axe's included: this context bypasses it.
     page = open_context(PHONE, bypass_csp=True).new_page()
     page.goto(path)
     if path == "/":
         page.get_by_label("Value").fill("4.5")
         expect(page.locator('[data-group="film_thickness"]')).to_be_visible()
-    page.add_script_tag(content=axe_source)
-    for scheme in ("light", "dark"):
-        page.emulate_media(color_scheme=scheme)
-        result = page.evaluate("async () => await axe.run(document, {resultTypes: ['violations']})")
-        serious = [
-            (v["id"], v["impact"], [n["target"] for n in v["nodes"]][:3])
-            for v in result["violations"]
-            if v["impact"] in ("serious", "critical")
-        ]
-        assert serious == [], f"{path} ({scheme})"
+    check_axe(page, path)
 
 
 def test_dark_theme_follows_the_device(open_context, screenshots):
