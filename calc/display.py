@@ -150,32 +150,24 @@ def in_order(spellings, system: str) -> list[str]:
     return sorted(spellings, key=lambda spelling: unit_system(spelling) != system)
 
 
-# Units in which the pages state each role, by preference: (main, also).
+# Units in which the pages state each role: (metric, imperial). A metric
+# preference shows the first as the main figure and the second beside it;
+# an imperial preference the other way round.
+ROLE_PAIRS = {
+    "anilox": ("cm3/m2", "BCM/in2"),
+    "film": ("um", "mil"),
+    "coat_weight": ("g/m2", "lb/ream"),
+    "area": ("m2", "MSI"),
+    "length": ("m", "ft"),
+    "width": ("mm", "in"),
+    "mass": ("kg", "lb"),
+    "volume": ("l", "gal"),
+    "density": ("g/cm3", "lb/gal"),
+    "mileage": ("m2/kg", "ft2/lb"),
+}
 ROLE_UNITS = {
-    "metric": {
-        "anilox": ("cm3/m2", "BCM/in2"),
-        "film": ("um", "mil"),
-        "coat_weight": ("g/m2", "lb/ream"),
-        "area": ("m2", "MSI"),
-        "length": ("m", "ft"),
-        "width": ("mm", "in"),
-        "mass": ("kg", "lb"),
-        "volume": ("l", "gal"),
-        "density": ("g/cm3", "lb/gal"),
-        "mileage": ("m2/kg", "ft2/lb"),
-    },
-    "imperial": {
-        "anilox": ("BCM/in2", "cm3/m2"),
-        "film": ("mil", "um"),
-        "coat_weight": ("lb/ream", "g/m2"),
-        "area": ("MSI", "m2"),
-        "length": ("ft", "m"),
-        "width": ("in", "mm"),
-        "mass": ("lb", "kg"),
-        "volume": ("gal", "l"),
-        "density": ("lb/gal", "g/cm3"),
-        "mileage": ("ft2/lb", "m2/kg"),
-    },
+    "metric": dict(ROLE_PAIRS),
+    "imperial": {role: (imperial, metric) for role, (metric, imperial) in ROLE_PAIRS.items()},
 }
 
 
