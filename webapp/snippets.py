@@ -26,7 +26,7 @@ from flask import (
 )
 
 from calc import InputError
-from webapp import auth, store
+from webapp import auth, snippets_api, store
 from webapp.api import CALCULATIONS
 from webapp.db import get_db
 
@@ -446,11 +446,8 @@ def export_json():
 
 @bp.get("/snippets/export.csv")
 def export_csv():
-    return Response(
-        store.export_csv(get_db()),
-        mimetype="text/csv",
-        headers={"Content-Disposition": 'attachment; filename="inkfilm-snippets.csv"'},
-    )
+    # The same file as the API's export.
+    return snippets_api.export_csv()
 
 
 @bp.route("/snippets/import", methods=["GET", "POST"])
