@@ -28,6 +28,7 @@ from pathlib import Path
 
 ROOT = Path(__file__).resolve().parent.parent
 sys.path.insert(0, str(ROOT))
+STATIC = ROOT / "webapp" / "static"
 
 from tests.conftest import drain, start_server  # noqa: E402  (the server exactly as the tests start it)
 
@@ -36,10 +37,10 @@ CONVERT_BODY = json.dumps({"quantity": "3.5 BCM/in2", "to": "cm3/m2"}).encode()
 
 def smallest_static_file() -> str:
     """The smallest stylesheet or script in static/, a fair like-for-like page asset."""
-    candidates = [p for p in (ROOT / "static").rglob("*") if p.is_file() and p.suffix in {".css", ".js", ".json"}]
+    candidates = [p for p in STATIC.rglob("*") if p.is_file() and p.suffix in {".css", ".js", ".json"}]
     if not candidates:
         raise SystemExit("no static file to compare against")
-    return "/static/" + min(candidates, key=lambda p: p.stat().st_size).relative_to(ROOT / "static").as_posix()
+    return "/static/" + min(candidates, key=lambda p: p.stat().st_size).relative_to(STATIC).as_posix()
 
 
 def start_and_time(data_dir: str) -> tuple[subprocess.Popen, int, float]:

@@ -15,7 +15,7 @@ from calc.display import format_number
 from webapp.api import CALCULATIONS
 
 ROOT = Path(__file__).resolve().parent.parent
-HTMX = ROOT / "static" / "htmx-2.0.11.min.js"
+HTMX = ROOT / "webapp" / "static" / "vendor" / "htmx-2.0.11.min.js"
 # sha256 of htmx.org 2.0.11's dist/htmx.min.js as published on the npm registry
 HTMX_SHA256 = "d6fdc75f204e6bdefa99b69bf1e6d4ac69b8a364f77929f45c13476b4000f717"
 HX = {"HX-Request": "true"}
@@ -52,7 +52,7 @@ def test_no_inline_script_style_or_handler(client, path):
     assert re.findall(r"https?://", body) == []  # no other origin
 
 
-@pytest.mark.parametrize("path", ["/", "/film", "/api/v1/film", "/static/inkfilm.css", "/sw.js"])
+@pytest.mark.parametrize("path", ["/", "/film", "/api/v1/film", "/static/css/inkfilm.css", "/sw.js"])
 def test_security_headers(client, path):
     response = client.get(path) if not path.startswith("/api") else client.post(path, json={})
     response.close()
@@ -64,14 +64,14 @@ def test_security_headers(client, path):
 
 
 def test_text_responses_are_compressed(client):
-    for path in ["/", "/static/htmx-2.0.11.min.js", "/static/inkfilm.css"]:
+    for path in ["/", "/static/vendor/htmx-2.0.11.min.js", "/static/css/inkfilm.css"]:
         with client.get(path, headers={"Accept-Encoding": "gzip, deflate, br, zstd"}) as response:
             assert response.headers.get("Content-Encoding") in {"gzip", "br", "zstd"}, path
 
 
 def test_versioned_static_files_are_cached_for_long(client):
     page = text(client.get("/"))
-    href = re.search(r'href="(/static/inkfilm\.css\?v=[0-9a-f]+)"', page).group(1)
+    href = re.search(r'href="(/static/css/inkfilm\.css\?v=[0-9a-f]+)"', page).group(1)
     with client.get(href) as response:
         assert response.cache_control.max_age == 365 * 24 * 3600
         assert response.cache_control.immutable

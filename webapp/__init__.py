@@ -12,15 +12,9 @@ from pathlib import Path
 from flask import Flask, jsonify, request
 from werkzeug.exceptions import HTTPException
 
-ROOT = Path(__file__).resolve().parent.parent
-
 
 def create_app(test_config: dict | None = None) -> Flask:
-    app = Flask(
-        __name__,
-        static_folder=str(ROOT / "static"),
-        static_url_path="/static",
-    )
+    app = Flask(__name__)
     app.config.from_mapping(
         DATA_DIR=os.environ.get("INKFILM_DATA_DIR", str(Path.cwd() / "inkfilm-data")),
         # The JSON API takes bodies up to 64 KB (see webapp.api); this is the

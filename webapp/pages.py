@@ -361,10 +361,10 @@ def offline():
 
 SHELL_PAGES = ("/", "/film", "/estimate", "/offline")
 STATIC_FILES = (
-    "htmx-2.0.11.min.js",
-    "inkfilm.css",
-    "print.css",
-    "inkfilm.js",
+    "vendor/htmx-2.0.11.min.js",
+    "css/inkfilm.css",
+    "css/print.css",
+    "js/inkfilm.js",
     "inkfilm.webmanifest",
     "icons/inkfilm.svg",
 )
@@ -374,7 +374,7 @@ STATIC_FILES = (
 def _build_version(root: str) -> str:
     """A hash of every static file and template: a new build gets a new cache."""
     digest = hashlib.sha256()
-    for folder in (Path(root) / "static", Path(root) / "webapp" / "templates"):
+    for folder in (Path(root) / "static", Path(root) / "templates"):
         for path in sorted(folder.rglob("*")):
             if path.is_file():
                 digest.update(str(path.relative_to(root)).encode())
@@ -383,7 +383,7 @@ def _build_version(root: str) -> str:
 
 
 def build_version() -> str:
-    return _build_version(str(Path(current_app.root_path).parent))
+    return _build_version(current_app.root_path)
 
 
 @bp.get("/sw.js")
