@@ -167,7 +167,9 @@ def equivalents(quantity, density=None, coverage: float | None = None) -> Equiva
 
     References
     ----------
-    NIST Special Publication 811 (2008), Appendix B; see REFERENCES.md.
+    NIST Special Publication 811 (2008), Appendix B; see docs/references.md.
+    NIST Handbook 44, Appendix C: US gallon = 231 in³ exactly.
+    Basis-weight ream of the paper and converting trade: 3000 ft².
     """
     quantity = parse_quantity(quantity, "quantity")
     kind = _kind(quantity)

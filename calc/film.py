@@ -26,7 +26,7 @@ from calc.units import (
 # bounds every real roll with room to spare.
 ANILOX_VOLUME_HIGH = Q_(100.0, "BCM/in2")
 
-# The trade's rule of thumb (common practice, see REFERENCES.md): about half
+# The trade's rule of thumb (common practice, see docs/references.md): about half
 # of the cell volume goes to the plate, about half of that to the substrate.
 TYPICAL_ANILOX_TO_PLATE = 0.5
 TYPICAL_PLATE_TO_SUBSTRATE = 0.5

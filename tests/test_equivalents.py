@@ -27,7 +27,7 @@ def values(result, key):
 # --- equivalents: reference values -------------------------------------------
 
 # Exact from NIST SP 811 Appendix B (inch = 25.4 mm): 1 in² = 645.16 mm², so
-# 1 BCM/in² = 1 mm³ / 645.16 mm² = 1/0.64516 cm³/m² (REFERENCES.md).
+# 1 BCM/in² = 1 mm³ / 645.16 mm² = 1/0.64516 cm³/m² (docs/references.md).
 BCM_IN2_IN_CM3_M2 = 1 / 0.64516
 
 
@@ -48,7 +48,7 @@ BCM_IN2_IN_CM3_M2 = 1 / 0.64516
         # line screen (NIST SP 811: inch = 2.54 cm)
         ("254 lpi", "line_screen", "lpcm", 100.0),
         ("100 lpcm", "line_screen", "lpi", 254.0),
-        # cell pitch p = 25 400 µm / lpi (REFERENCES.md, anilox geometry)
+        # cell pitch p = 25 400 µm / lpi (docs/references.md, "Anilox geometry")
         ("800 lpi", "cell_pitch", "um", 31.75),
         # areas (NIST SP 811: foot = 0.3048 m; MSI = 1000 in² = 0.64516 m²)
         ("1 MSI", "area", "m2", 0.64516),
@@ -72,7 +72,7 @@ def test_equivalents_reference_values(typed, key, unit, expected):
 
 
 def test_film_with_density_gives_coat_weight_and_mileage():
-    # w = t × ρ and M = 1/w, exact by definition (REFERENCES.md, "Ink and film")
+    # w = t × ρ and M = 1/w, exact by definition (docs/references.md, "Ink and film")
     result = equivalents("2 um", density="1.05 g/cm3")
     assert values(result, "coat_weight")["g/m2"] == pytest.approx(2.1)
     assert values(result, "mileage")["m2/kg"] == pytest.approx(1000 / 2.1)

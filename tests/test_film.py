@@ -15,7 +15,7 @@ def test_theoretical_film_of_one_bcm():
 
 
 def test_rule_of_thumb_transfer_puts_a_quarter_on_the_substrate():
-    # Common practice (REFERENCES.md): about half to the plate and half of that
+    # Common practice (docs/references.md): about half to the plate and half of that
     # to the substrate, ≈ 25 % of the cell volume overall.
     assert TYPICAL_ANILOX_TO_PLATE * TYPICAL_PLATE_TO_SUBSTRATE == 0.25
     chain = film_chain("4 BCM/in2")
