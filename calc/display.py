@@ -1,4 +1,4 @@
-"""Numbers for people: reading what they type, rounding what they read.
+"""Numbers for people: the one place for rounding and unit labels.
 
 The API gives full precision; the pages round. An anilox volume is known to
 about ±10 % (the engraver's tolerance, and wear after that; common practice),
@@ -12,21 +12,15 @@ does not drift, and no more than the anilox volume deserves.
 '12,300'
 >>> format_number(0.000275591)
 '0.000276'
->>> parse_number("4,5", "value")
-4.5
->>> parse_percent("35", "coverage")
-0.35
 """
 
 from __future__ import annotations
 
 import math
-import re
 from dataclasses import dataclass
 from decimal import ROUND_HALF_UP, Decimal
 
-from calc.errors import InputError
-from calc.units import MAX_MAGNITUDE, Q_  # noqa: F401 (Q_ for the doctests)
+from calc.units import Q_  # noqa: F401 (Q_ for the doctests)
 
 SIGNIFICANT = 3
 
@@ -174,95 +168,6 @@ ROLE_UNITS = {
 def role_units(role: str, system: str) -> tuple[str, str]:
     """(main, also) unit spellings for a role such as ``'film'`` under a preference."""
     return ROLE_UNITS[check_system(system)][role]
-
-
-# --- Reading what people type ------------------------------------------------
-
-_THOUSANDS = re.compile(r"^[+-]?\d{1,3}(,\d{3})+(\.\d*)?$")
-_DECIMAL_COMMA = re.compile(r"^[+-]?\d*,\d+$")
-_PLAIN = re.compile(r"^[+-]?(\d+(\.\d*)?|\.\d+)([eE][+-]?\d+)?$")
-
-
-def parse_number(text, field: str | None, *, required: bool = True) -> float | None:
-    """A number as typed in a form field: ``'4.5'``, ``'4,5'`` (decimal comma), ``'12,000'``.
-
-    A comma followed by exactly three digits groups thousands (``1,500`` is
-    fifteen hundred); any other single comma is a decimal comma (``4,5``).
-    Returns ``None`` for an empty field when ``required`` is false.
-    """
-    if text is None:
-        text = ""
-    if not isinstance(text, str):
-        raise InputError(field, "must be a number")
-    text = text.strip().replace(" ", "").replace("\u202f", "")
-    if not text:
-        if required:
-            raise InputError(field, "needs a number")
-        return None
-    if len(text) > 40:
-        raise InputError(field, "is too long to be a number")
-    if _THOUSANDS.match(text):
-        text = text.replace(",", "")
-    elif _DECIMAL_COMMA.match(text):
-        text = text.replace(",", ".")
-    if not _PLAIN.match(text):
-        raise InputError(field, f"'{text}' is not a number; type digits, e.g. 4.5")
-    value = float(text)
-    if not math.isfinite(value) or abs(value) > MAX_MAGNITUDE:
-        raise InputError(field, "is far too large to be a real value")
-    return value
-
-
-def parse_percent(text, field: str | None, *, required: bool = True) -> float | None:
-    """A percentage as typed (``'35'`` or ``'35 %'``) as a share from 0 to 1.
-
-    >>> parse_percent("12.5 %", "transfer")
-    0.125
-    """
-    if isinstance(text, str):
-        text = text.replace("%", "")
-    value = parse_number(text, field, required=required)
-    if value is None:
-        return None
-    if not 0.0 <= value <= 100.0:
-        raise InputError(field, "must be a percentage from 0 to 100")
-    return value / 100.0
-
-
-# --- The film chain as a drawing -------------------------------------------
-
-
-@dataclass(frozen=True)
-class Layer:
-    """One bar of the film chain drawing, in drawing units (the SVG's user units)."""
-
-    key: str
-    label: str
-    shown: Shown
-    height: float
-    y: float
-
-
-def film_layers(films, spelling: str, *, tallest: float = 140.0, baseline: float = 170.0, least: float = 1.0):
-    """Bars for the film chain drawing, drawn to scale against each other.
-
-    ``films`` is a list of ``(key, label, quantity)`` (the anilox volume read
-    as a film first, then plate, substrate, dry); the largest is ``tallest``
-    units high, the others in proportion, none less than ``least`` so that a
-    very thin film stays visible. Bars stand on ``baseline`` (SVG y grows down).
-
-    >>> [round(layer.height) for layer in film_layers(
-    ...     [("a", "A", Q_(8, "um")), ("b", "B", Q_(4, "um")), ("c", "C", Q_(2, "um"))], "um")]
-    [140, 70, 35]
-    """
-    values = [float(quantity.to("um").magnitude) for _, _, quantity in films]
-    top = max(values) if values else 0.0
-    layers = []
-    for (key, label, quantity), value in zip(films, values, strict=True):
-        height = tallest * value / top if top > 0 else 0.0
-        height = max(height, least)
-        layers.append(Layer(key, label, show(quantity, spelling), round(height, 2), round(baseline - height, 2)))
-    return layers
 
 
 # --- Values in the working ("how this was worked out") ------------------------

@@ -4,21 +4,7 @@ import json
 
 import pytest
 
-ESTIMATE = {
-    "web_width": "330 mm",
-    "run_length": "12000 m",
-    "waste": 0.05,
-    "stations": [
-        {
-            "name": "Cyan",
-            "anilox_volume": "3 BCM/in2",
-            "coverage": 0.4,
-            "transfer": 0.3,
-            "ink_density": "1.0 g/cm3",
-            "price_per_kg": 12.5,
-        }
-    ],
-}
+from tests.bodies import ESTIMATE
 
 
 def post(client, path, body):

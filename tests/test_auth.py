@@ -11,10 +11,11 @@ import urllib.request
 
 import pytest
 
+from tests.bodies import FILM
 from tests.conftest import start_server
-from webapp import auth, create_app
+from webapp import create_app
+from webapp.auth import passcodes as auth
 
-FILM = {"anilox_volume": "4 BCM/in2", "anilox_to_plate": 0.5, "plate_to_substrate": 0.5}
 URL = "/api/v1/snippets"
 SHOP = "Shop-4711-passcode"
 SUPERVISOR = "Boss-9090-passcode"

@@ -5,18 +5,12 @@ from __future__ import annotations
 import pytest
 
 from calc import Q_, InputError
-from calc.display import (
-    film_layers,
-    format_money,
-    format_number,
-    in_order,
-    parse_number,
-    parse_percent,
-    role_units,
-    show,
-)
+from calc.display import format_money, format_number, in_order, role_units, show
 from calc.equivalents import equivalents
-from webapp.api import CALCULATIONS, compute_equivalents
+from webapp.calculators import CALCULATIONS
+from webapp.calculators.convert import compute_equivalents
+from webapp.calculators.film import film_layers
+from webapp.common.forms import parse_number, parse_percent
 
 
 def values(result, key):

@@ -19,14 +19,14 @@ import time
 
 import pytest
 
+from tests.bodies import FILM
 from tests.conftest import SCREENSHOTS, drain, start_server
-from webapp import db
+from webapp.common import db
 
 pytestmark = pytest.mark.slow
 
 KILLS = 8
 CLIENTS = 6
-FILM = {"anilox_volume": "4 BCM/in2", "anilox_to_plate": 0.5, "plate_to_substrate": 0.5}
 
 
 def saver(base: str, name: str, acknowledged: dict, lock: threading.Lock, stop: threading.Event) -> None:

@@ -12,7 +12,7 @@ from pathlib import Path
 import pytest
 
 from calc.display import format_number
-from webapp.api import CALCULATIONS
+from webapp.calculators import CALCULATIONS
 
 ROOT = Path(__file__).resolve().parent.parent
 HTMX = ROOT / "webapp" / "static" / "vendor" / "htmx-2.0.11.min.js"

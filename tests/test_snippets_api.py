@@ -7,10 +7,11 @@ import json
 
 import pytest
 
-from webapp import create_app, db
-from webapp.api import CALCULATIONS
+from tests.bodies import FILM
+from webapp import create_app
+from webapp.calculators import CALCULATIONS
+from webapp.common import db
 
-FILM = {"anilox_volume": "4 BCM/in2", "anilox_to_plate": 0.5, "plate_to_substrate": 0.5}
 URL = "/api/v1/snippets"
 
 

@@ -12,8 +12,10 @@ import urllib.request
 from pathlib import Path
 
 from tests.conftest import ROOT, start_server
-from webapp import cli, db, demo
-from webapp.api import CALCULATIONS
+from webapp import cli
+from webapp.calculators import CALCULATIONS
+from webapp.common import db
+from webapp.snippets import demo
 
 
 def get_json(url: str):

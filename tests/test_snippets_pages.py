@@ -10,10 +10,10 @@ import re
 
 import pytest
 
-from webapp import create_app, db
-from webapp.api import CALCULATIONS
-
-FILM = {"anilox_volume": "4 BCM/in2", "anilox_to_plate": 0.5, "plate_to_substrate": 0.5}
+from tests.bodies import FILM
+from webapp import create_app
+from webapp.calculators import CALCULATIONS
+from webapp.common import db
 
 
 def csrf(client) -> str:

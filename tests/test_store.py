@@ -10,18 +10,11 @@ from datetime import UTC, datetime, timedelta
 import pytest
 
 from calc import InputError
-from webapp import db, store
-from webapp.api import CALCULATIONS
-
-FILM = {"anilox_volume": "4 BCM/in2", "anilox_to_plate": 0.5, "plate_to_substrate": 0.5}
-ESTIMATE = {
-    "web_width": "330 mm",
-    "run_length": "12000 m",
-    "waste": 0.05,
-    "stations": [
-        {"name": "Cyan", "anilox_volume": "3 BCM/in2", "coverage": 0.4, "transfer": 0.3, "ink_density": "1.0 g/cm3"}
-    ],
-}
+from tests.bodies import ESTIMATE_UNPRICED, FILM
+from webapp.calculators import CALCULATIONS
+from webapp.common import db
+from webapp.snippets import exchange, store
+from webapp.snippets import rerun as reruns
 
 
 @pytest.fixture
@@ -148,7 +141,7 @@ def test_bad_inputs_are_reported_inside_inputs(conn):
 def test_search_matches_title_job_notes_and_whole_tags(conn):
     save(conn, "White under-print", job_number="24-0093", press="N1", tags="white")
     save(conn, "Cyan", job_number="24-0117", press="N2", notes="blade changed at 14:00")
-    estimate = store.create(conn, "estimate", ESTIMATE, {"title": "Pouch quote", "press": "W1"}, CALCULATIONS)
+    estimate = store.create(conn, "estimate", ESTIMATE_UNPRICED, {"title": "Pouch quote", "press": "W1"}, CALCULATIONS)
 
     def titles(*args, **kwargs):
         return [s["title"] for s in store.search(conn, *args, **kwargs)[0]]
@@ -228,7 +221,7 @@ def test_delete_with_a_stale_version_is_refused(conn):
 
 
 def test_rerun_with_the_same_core_gives_the_same_results(conn):
-    rerun = store.rerun(save(conn), CALCULATIONS)
+    rerun = reruns.rerun(save(conn), CALCULATIONS)
     assert rerun.same
     assert rerun.changes == []
 
@@ -237,7 +230,7 @@ def test_rerun_names_each_value_that_came_out_differently():
     snippet = {"kind": "film", "inputs": FILM, "results": CALCULATIONS["film"](FILM)}
     snippet["results"]["substrate_wet"]["value"] *= 1.01
     snippet["results"]["plate_wet"]["value"] *= 1 + 1e-12
-    rerun = store.rerun(snippet, CALCULATIONS)
+    rerun = reruns.rerun(snippet, CALCULATIONS)
     assert not rerun.same
     assert [change.where for change in rerun.changes] == ["substrate_wet"]
 
@@ -245,13 +238,13 @@ def test_rerun_names_each_value_that_came_out_differently():
 def test_compare_reports_added_removed_and_list_changes():
     saved = {"stations": [{"ink_mass": {"value": 1.0, "unit": "kg"}}], "total_cost": 3}
     today = {"stations": [{"ink_mass": {"value": 1.0, "unit": "g"}}, {"x": 1}], "extra": "y"}
-    where = [change.where for change in store.compare(saved, today)]
+    where = [change.where for change in reruns.compare(saved, today)]
     assert where == ["stations[0].ink_mass", "stations[1]", "total_cost", "extra"]
 
 
 def test_rerun_of_inputs_todays_core_refuses_says_why():
     snippet = {"kind": "film", "inputs": {**FILM, "anilox_to_plate": 7}, "results": {}}
-    rerun = store.rerun(snippet, CALCULATIONS)
+    rerun = reruns.rerun(snippet, CALCULATIONS)
     assert rerun.error is not None and rerun.error.field == "inputs.anilox_to_plate"
     assert not rerun.same
 
@@ -261,28 +254,28 @@ def test_rerun_of_inputs_todays_core_refuses_says_why():
 
 def test_export_import_round_trip_gives_the_same_data(conn, tmp_path):
     save(conn, "One", job_number="24-0117", tags="white, handover", notes="line 1\nline 2", saved_by="Ana")
-    store.create(conn, "estimate", ESTIMATE, {"title": "Two", "press": "W1"}, CALCULATIONS)
+    store.create(conn, "estimate", ESTIMATE_UNPRICED, {"title": "Two", "press": "W1"}, CALCULATIONS)
     third = save(conn, "Three")
     store.update(conn, third["id"], 1, {"notes": "edited"})
-    exported = json.loads(json.dumps(store.export_all(conn)))
+    exported = json.loads(json.dumps(exchange.export_all(conn)))
     other_path = tmp_path / "other.sqlite3"
     db.migrate(other_path)
     with contextlib.closing(db.connect(other_path)) as other:
-        assert store.import_all(other, exported) == {"added": 3, "already_here": 0}
-        again = store.export_all(other)
-        assert store.import_all(other, exported) == {"added": 0, "already_here": 3}
+        assert exchange.import_all(other, exported) == {"added": 3, "already_here": 0}
+        again = exchange.export_all(other)
+        assert exchange.import_all(other, exported) == {"added": 0, "already_here": 3}
         assert other.execute("SELECT count(*) FROM snippet").fetchone()[0] == 3
     assert again["snippets"] == exported["snippets"]
 
 
 def test_a_bad_snippet_in_an_import_adds_nothing(conn):
-    good = store.export_all(conn)
+    good = exchange.export_all(conn)
     save(conn)
-    items = store.export_all(conn)["snippets"]
+    items = exchange.export_all(conn)["snippets"]
     broken = {**items[0], "uid": "b" * 32, "title": "x" * 500}
     data = {**good, "snippets": [{**items[0], "uid": "c" * 32}, broken]}
     with pytest.raises(InputError) as info:
-        store.import_all(conn, data)
+        exchange.import_all(conn, data)
     assert info.value.field == "snippets[1].title"
     assert conn.execute("SELECT count(*) FROM snippet").fetchone()[0] == 1
 
@@ -303,13 +296,13 @@ def test_a_bad_snippet_in_an_import_adds_nothing(conn):
 )
 def test_import_names_what_is_wrong(conn, data, field):
     with pytest.raises(InputError) as info:
-        store.import_all(conn, data)
+        exchange.import_all(conn, data)
     assert info.value.field == field
 
 
 def test_csv_export_has_one_row_per_snippet_and_keeps_formulas_as_text(conn):
     save(conn, "=HYPERLINK(1)", notes="a, b\nc")
-    lines = store.export_csv(conn).splitlines()
+    lines = exchange.export_csv(conn).splitlines()
     assert lines[0].startswith("id,uid,kind,title")
     assert "'=HYPERLINK(1)" in lines[1]
 

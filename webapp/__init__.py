@@ -1,7 +1,14 @@
 """inkfilm's web side: the Flask app factory.
 
-``create_app`` builds the app and registers one blueprint per feature; it
+``create_app`` builds the app and registers one package per feature; it
 opens nothing at import time. waitress serves it (see ``webapp.cli``).
+
+- ``common/``: plumbing every feature shares (database, the ``/api/v1``
+  parent blueprint, forms, htmx, formatting, assets, security headers);
+- ``auth/``: passcodes, CSRF and the one gate for writes;
+- ``calculators/``: every calculation (registry, API, pages);
+- ``shell/``: unit preference, offline page, service worker;
+- ``snippets/``: saved calculations (pages, API, store, export and import).
 """
 
 from __future__ import annotations
@@ -17,7 +24,7 @@ def create_app(test_config: dict | None = None) -> Flask:
     app = Flask(__name__)
     app.config.from_mapping(
         DATA_DIR=os.environ.get("INKFILM_DATA_DIR", str(Path.cwd() / "inkfilm-data")),
-        # The JSON API takes bodies up to 64 KB (see webapp.api); this is the
+        # The JSON API takes bodies up to 64 KB (webapp.common.jsonapi); this is the
         # app-wide ceiling, for uploads such as an import file.
         MAX_CONTENT_LENGTH=8 * 1024 * 1024,
     )
@@ -25,21 +32,27 @@ def create_app(test_config: dict | None = None) -> Flask:
         app.config.update(test_config)
     Path(app.config["DATA_DIR"]).mkdir(parents=True, exist_ok=True)
 
-    from webapp import api, auth, db, pages, snippets, snippets_api
+    from webapp import auth, calculators, shell, snippets
+    from webapp.common import assets, db, formatting, jsonapi, security
 
-    app.register_blueprint(api.bp)
-    # The pages (converters, film chain, estimate), security headers, compression.
-    pages.init_app(app)
-    # Saved snippets: the SQLite file (migrated here), passcodes and sessions, pages and API.
+    # Plumbing every page shares.
+    security.init_app(app)
+    assets.init_app(app)
+    formatting.init_app(app)
+    # The SQLite file (migrated here), passcodes, sessions and CSRF.
     db.init_app(app)
     auth.init_app(app)
-    app.register_blueprint(snippets_api.bp)
-    app.register_blueprint(snippets.bp)
+    # Features: the calculators, the app shell, saved snippets.
+    calculators.init_app(app)
+    shell.init_app(app)
+    snippets.init_app(app)
+    # The JSON API last: every feature has nested its child under it by now.
+    app.register_blueprint(jsonapi.api)
 
     @app.errorhandler(HTTPException)
     def http_error(exc: HTTPException):
         if request.path.startswith("/api/"):
-            return api.error_response(None, _plain_http_message(exc), exc.code or 400)
+            return jsonapi.error_response(None, _plain_http_message(exc), exc.code or 400)
         return exc
 
     @app.errorhandler(Exception)
@@ -47,7 +60,7 @@ def create_app(test_config: dict | None = None) -> Flask:
         # Log the cause for the maintainers; show the user no traceback.
         app.logger.exception("unexpected error on %s %s", request.method, request.path)
         if request.path.startswith("/api/"):
-            return api.error_response(None, "something went wrong on the server; nothing was changed", 500)
+            return jsonapi.error_response(None, "something went wrong on the server; nothing was changed", 500)
         return "Something went wrong on the server; nothing was changed.", 500
 
     @app.get("/healthz")

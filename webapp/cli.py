@@ -56,7 +56,7 @@ def serve_command(args) -> int:
     import waitress
 
     from webapp import create_app
-    from webapp.db import NewerDatabaseError
+    from webapp.common.db import NewerDatabaseError
 
     # The demo shop never fills the real data folder.
     data_dir = (DEMO_DATA if args.demo and args.data_dir == DEFAULT_DATA else args.data_dir).resolve()
@@ -68,7 +68,7 @@ def serve_command(args) -> int:
     if supervisor:
         config["SUPERVISOR_PASSCODE"] = supervisor
     if args.demo:
-        from webapp import demo
+        from webapp.snippets import demo
 
         data_dir.mkdir(parents=True, exist_ok=True)
         added = demo.fill(data_dir)
@@ -91,7 +91,7 @@ def serve_command(args) -> int:
 
 
 def backup_command(args) -> int:
-    from webapp import db
+    from webapp.common import db
 
     source = args.data_dir.resolve() / db.FILENAME
     if not source.exists():

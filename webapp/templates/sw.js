@@ -5,7 +5,7 @@
 "use strict";
 const CACHE = "inkfilm-{{ version }}";
 const SHELL = {{ shell|tojson }};
-const SHELL_PAGES = new Set(["/", "/film", "/estimate", "/offline"]);
+const SHELL_PAGES = new Set({{ shell_pages|tojson }});
 
 self.addEventListener("install", (event) => {
   event.waitUntil(

@@ -1,7 +1,7 @@
 """The snippets API, ``/api/v1/snippets``: saved calculations as JSON.
 
 Same error shape as the rest of ``/api/v1`` (``{"error": {"field", "message"}}``)
-and the same passcode rules as the pages (see ``webapp.auth``): reading is
+and the same passcode rules as the pages (``webapp.auth.gate``): reading is
 open; a write sends the passcode in ``X-Inkfilm-Passcode``, or relies on an
 unlocked session cookie and then carries ``X-CSRF-Token``. Writes send JSON
 (``Content-Type: application/json``), which a page on another site cannot.
@@ -12,27 +12,18 @@ from __future__ import annotations
 from flask import Blueprint, Response, jsonify, request, url_for
 
 from calc import InputError
-from webapp import auth, store
-from webapp.api import CALCULATIONS, check_fields, error_response, request_body
-from webapp.db import get_db
+from webapp.auth.gate import api_gate as require
+from webapp.calculators import CALCULATIONS
+from webapp.common.db import get_db
+from webapp.common.jsonapi import api, check_fields, error_response, request_body
+from webapp.snippets import exchange, store
+from webapp.snippets.rerun import rerun as work_out_again
 
-bp = Blueprint("snippets_api", __name__, url_prefix="/api/v1/snippets")
+bp = Blueprint("snippets_api", __name__, url_prefix="/snippets")
 
-MAX_BODY = 64 * 1024
 MAX_IMPORT_BODY = 8 * 1024 * 1024
 CREATE_OPTIONAL = {"job_number", "press", "station", "notes", "tags", "saved_by"}
 UPDATE_FIELDS = {"title", *CREATE_OPTIONAL}
-
-
-class Refused(Exception):
-    def __init__(self, field: str | None, message: str, status: int, retry_after: float | None = None):
-        super().__init__(message)
-        self.field, self.message, self.status, self.retry_after = field, message, status, retry_after
-
-
-@bp.errorhandler(InputError)
-def input_error(exc: InputError):
-    return error_response(exc.field, exc.message, 400)
 
 
 @bp.errorhandler(store.NotFound)
@@ -47,49 +38,11 @@ def conflict(exc: store.Conflict):
     return response
 
 
-@bp.errorhandler(Refused)
-def refused(exc: Refused):
-    response = error_response(exc.field, exc.message, exc.status)
-    if exc.retry_after is not None:
-        response.headers["Retry-After"] = str(max(1, round(exc.retry_after)))
-    return response
-
-
 @bp.before_request
 def limit_body():
-    large = request.endpoint == "snippets_api.import_snippets"
-    request.max_content_length = MAX_IMPORT_BODY if large else MAX_BODY
-
-
-WHAT = {"write": "saving and editing", "supervise": "deleting, the bin and import"}
-
-
-def require(action: str) -> None:
-    """Refuse the request unless the sender may do ``action`` ("write" or "supervise")."""
-    if request.method in ("POST", "PUT", "PATCH") and not request.is_json:
-        raise Refused(None, "send the body as JSON (Content-Type: application/json)", 415)
-    if auth.allowed(action, "reader"):
-        return  # no passcode guards this: a passcode sent anyway is not checked
-    sent = request.headers.get(auth.PASSCODE_HEADER)
-    if sent is not None:
-        try:
-            role = auth.role_for_passcode(sent)
-        except auth.Locked as exc:
-            raise Refused(auth.PASSCODE_HEADER, exc.message, 429, exc.seconds) from None
-        if role is None:
-            raise Refused(auth.PASSCODE_HEADER, "that passcode is not right", 403)
-    else:
-        role = auth.session_role()
-        writing = request.method not in ("GET", "HEAD")
-        if role != "reader" and writing and not auth.csrf_ok(request.headers.get(auth.CSRF_HEADER)):
-            # An unlocked browser: the cookie alone could be a forged request's.
-            raise Refused(auth.CSRF_HEADER, "a write from an unlocked browser needs this session's CSRF token", 403)
-    if not auth.allowed(action, role):
-        needs = "supervisor" if auth.needed(action) == "supervisor" else "shop"
-        status = 401 if sent is None else 403
-        raise Refused(
-            auth.PASSCODE_HEADER, f"{WHAT[action]} needs the {needs} passcode (send it in this header)", status
-        )
+    # The parent ``api`` allows small bodies; an import file may be larger.
+    if request.endpoint == "api.snippets_api.import_snippets":
+        request.max_content_length = MAX_IMPORT_BODY
 
 
 def _whole_number(name: str, default: int, low: int, high: int) -> int:
@@ -124,7 +77,7 @@ def create_snippet():
     snippet = store.create(get_db(), kind, inputs, body, CALCULATIONS)
     response = jsonify(snippet)
     response.status_code = 201
-    response.headers["Location"] = url_for("snippets_api.read_snippet", snippet_id=snippet["id"])
+    response.headers["Location"] = url_for("api.snippets_api.read_snippet", snippet_id=snippet["id"])
     return response
 
 
@@ -136,7 +89,7 @@ def read_snippet(snippet_id: int):
 @bp.get("/<int:snippet_id>/rerun")
 def rerun_snippet(snippet_id: int):
     snippet = store.get(get_db(), snippet_id)
-    rerun = store.rerun(snippet, CALCULATIONS)
+    rerun = work_out_again(snippet, CALCULATIONS)
     answer = {
         "same": rerun.same,
         "saved": snippet["results"],
@@ -157,7 +110,7 @@ def update_snippet(snippet_id: int):
     if not isinstance(body.get("rerun", False), bool):
         raise InputError("rerun", "must be true (keep today's results) or false")
     if body.pop("rerun", False):
-        rerun = store.rerun(store.get(get_db(), snippet_id), CALCULATIONS)
+        rerun = work_out_again(store.get(get_db(), snippet_id), CALCULATIONS)
         if rerun.error is not None:
             raise rerun.error
         results = rerun.results
@@ -185,7 +138,7 @@ def bin_list():
 
 @bp.get("/export")
 def export_json():
-    response = jsonify(store.export_all(get_db()))
+    response = jsonify(exchange.export_all(get_db()))
     response.headers["Content-Disposition"] = 'attachment; filename="inkfilm-snippets.json"'
     return response
 
@@ -193,7 +146,7 @@ def export_json():
 @bp.get("/export.csv")
 def export_csv():
     return Response(
-        store.export_csv(get_db()),
+        exchange.export_csv(get_db()),
         mimetype="text/csv",
         headers={"Content-Disposition": 'attachment; filename="inkfilm-snippets.csv"'},
     )
@@ -202,7 +155,7 @@ def export_csv():
 @bp.post("/import")
 def import_snippets():
     require("supervise")
-    return jsonify(store.import_all(get_db(), request_body_any()))
+    return jsonify(exchange.import_all(get_db(), request_body_any()))
 
 
 def request_body_any():
@@ -211,3 +164,7 @@ def request_body_any():
     if body is None:
         raise InputError(None, "the request body must be an inkfilm JSON export")
     return body
+
+
+# Nested once, at import: under ``/api/v1``, with its error shape and body limit.
+api.register_blueprint(bp)

@@ -4,8 +4,9 @@ The database is one file in the data folder. Every request gets its own
 connection on ``g`` (closed at teardown); WAL mode lets readers go on while
 one writer writes, and the busy timeout makes a second writer wait its turn
 instead of failing. The schema is versioned with ``PRAGMA user_version``:
-``MIGRATIONS[n]`` takes a file from version ``n`` to ``n + 1`` and all due
-migrations run, in one transaction each, when the app starts.
+the numbered files in ``migrations/`` (``0001_snippet.sql``, …) each take a
+file one version further, and all due migrations run, in one transaction,
+when the app starts.
 """
 
 from __future__ import annotations
@@ -20,53 +21,22 @@ from flask import current_app, g
 FILENAME = "inkfilm.sqlite3"
 BUSY_TIMEOUT_S = 10.0
 
-# Never edit a migration that has shipped: add a new one at the end.
-MIGRATIONS: list[str] = [
-    # 1: saved calculations ("snippets"), tags as one comma-separated text.
-    """
-    CREATE TABLE snippet (
-        id          INTEGER PRIMARY KEY,
-        uid         TEXT NOT NULL UNIQUE,
-        kind        TEXT NOT NULL,
-        title       TEXT NOT NULL,
-        job_number  TEXT NOT NULL DEFAULT '',
-        press       TEXT NOT NULL DEFAULT '',
-        station     TEXT NOT NULL DEFAULT '',
-        notes       TEXT NOT NULL DEFAULT '',
-        tags        TEXT NOT NULL DEFAULT '',
-        saved_by    TEXT NOT NULL DEFAULT '',
-        inputs      TEXT NOT NULL,
-        results     TEXT NOT NULL,
-        created_at  TEXT NOT NULL,
-        updated_at  TEXT NOT NULL,
-        version     INTEGER NOT NULL DEFAULT 1,
-        deleted_at  TEXT
-    );
-    """,
-    # 2: tags get a table of their own, so that a tag is found whole
-    # ("white" does not find "off-white"); lookups by job and press get indexes.
-    """
-    CREATE TABLE snippet_tag (
-        snippet_id  INTEGER NOT NULL REFERENCES snippet(id) ON DELETE CASCADE,
-        tag         TEXT NOT NULL,
-        PRIMARY KEY (snippet_id, tag)
-    );
-    WITH RECURSIVE split(snippet_id, tag, rest) AS (
-        SELECT id, '', tags || ',' FROM snippet
-        UNION ALL
-        SELECT snippet_id, trim(substr(rest, 1, instr(rest, ',') - 1)), substr(rest, instr(rest, ',') + 1)
-        FROM split WHERE rest <> ''
-    )
-    INSERT OR IGNORE INTO snippet_tag (snippet_id, tag)
-        SELECT snippet_id, lower(tag) FROM split WHERE tag <> '';
-    ALTER TABLE snippet DROP COLUMN tags;
-    CREATE INDEX snippet_tag_tag ON snippet_tag (tag);
-    CREATE INDEX snippet_job ON snippet (job_number);
-    CREATE INDEX snippet_press ON snippet (press);
-    CREATE INDEX snippet_updated ON snippet (deleted_at, updated_at);
-    """,
-]
+MIGRATIONS_DIR = Path(__file__).with_name("migrations")
 
+
+def _load_migrations() -> list[str]:
+    """The numbered ``.sql`` files, in order: ``0001_….sql`` takes a file from version 0 to 1.
+
+    Never edit a migration that has shipped: add a new file with the next number.
+    """
+    files = sorted(MIGRATIONS_DIR.glob("[0-9][0-9][0-9][0-9]_*.sql"))
+    for expected, path in enumerate(files, start=1):
+        if int(path.name[:4]) != expected:
+            raise RuntimeError(f"migration {path.name} is out of sequence (expected number {expected:04d})")
+    return [path.read_text(encoding="utf-8") for path in files]
+
+
+MIGRATIONS: list[str] = _load_migrations()
 SCHEMA_VERSION = len(MIGRATIONS)
 
 
@@ -105,8 +75,7 @@ def migrate(path: str | os.PathLike) -> int:
     """Bring the file at ``path`` (created if missing) to ``SCHEMA_VERSION``; return the old version."""
     with contextlib.closing(connect(path)) as conn:
         conn.execute("PRAGMA journal_mode = WAL")
-        conn.execute("BEGIN IMMEDIATE")
-        try:
+        with transaction(conn):
             found = conn.execute("PRAGMA user_version").fetchone()[0]
             if found > SCHEMA_VERSION:
                 raise NewerDatabaseError(
@@ -118,10 +87,6 @@ def migrate(path: str | os.PathLike) -> int:
                     conn.execute(statement)
                 # PRAGMA takes no parameters; the number is ours, not a user's.
                 conn.execute(f"PRAGMA user_version = {number + 1}")
-        except BaseException:
-            conn.execute("ROLLBACK")
-            raise
-        conn.execute("COMMIT")
         return found
 
 

@@ -1,19 +1,11 @@
-"""Who may write: the shop and supervisor passcodes, the session, CSRF tokens.
-
-Anyone on the shop network may read. If a shop passcode is set, saving and
-editing need it; if a supervisor passcode is set, deleting, the bin and
-import need it (the supervisor passcode also opens everything the shop one
-does). With neither set the floor writes freely and the settings page says so.
+"""Passcodes and roles: hashing, the unlocked session, and slowing down guessing.
 
 Passcodes come in at start-up (``SHOP_PASSCODE`` / ``SUPERVISOR_PASSCODE`` in
 the config, from the command line or environment) and are replaced at once by
 salted scrypt hashes; the plain text is kept nowhere and never logged. A
 passcode entered on the settings page puts the role in Flask's signed session
-cookie (HttpOnly, SameSite=Strict). API clients send it in the
-``X-Inkfilm-Passcode`` header instead. Every state-changing form carries the
-session's CSRF token; API writes that rely on the cookie carry it in the
-``X-CSRF-Token`` header. Wrong passcodes from one address lock that address
-out for a growing while, answered at once with 429 (no thread sleeps).
+cookie (HttpOnly, SameSite=Strict). Wrong passcodes from one address lock that
+address out for a growing while, answered at once with 429 (no thread sleeps).
 """
 
 from __future__ import annotations
@@ -26,13 +18,8 @@ import threading
 import time
 from pathlib import Path
 
-from flask import Blueprint, Response, abort, current_app, flash, redirect, render_template, request, session, url_for
+from flask import current_app, request, session
 
-bp = Blueprint("auth", __name__)
-
-PASSCODE_HEADER = "X-Inkfilm-Passcode"
-CSRF_HEADER = "X-CSRF-Token"
-CSRF_FIELD = "csrf_token"
 RANK = {"reader": 0, "shop": 1, "supervisor": 2}
 # An unlocked device stays unlocked for about a shift.
 UNLOCK_SECONDS = 12 * 3600
@@ -88,10 +75,7 @@ def init_app(app) -> None:
         max_lock=app.config.get("PASSCODE_MAX_LOCK_S", 300),
     )
     app.extensions["inkfilm_verified"] = {}
-    # A global, not a context variable: imported macros see it too.
-    app.add_template_global(csrf_token)
     app.context_processor(lambda: {"auth": auth_state()})
-    app.register_blueprint(bp)
 
 
 def _secret_key(data_dir: Path) -> bytes:
@@ -240,77 +224,3 @@ def auth_state() -> dict:
         "can_write": allowed("write", role),
         "can_supervise": allowed("supervise", role),
     }
-
-
-# --- CSRF ------------------------------------------------------------------------------
-
-
-def csrf_token() -> str:
-    """This session's CSRF token (made on first use)."""
-    token = session.get("csrf")
-    if not isinstance(token, str) or len(token) < 32:
-        token = secrets.token_urlsafe(32)
-        session["csrf"] = token
-        session.permanent = True
-    return token
-
-
-def csrf_ok(sent: str | None) -> bool:
-    token = session.get("csrf")
-    return isinstance(token, str) and isinstance(sent, str) and hmac.compare_digest(token.encode(), sent.encode())
-
-
-def check_form_csrf() -> None:
-    """Refuse (400) a state-changing form request without this session's token."""
-    if request.method in ("POST", "PUT", "PATCH", "DELETE") and not csrf_ok(request.form.get(CSRF_FIELD)):
-        abort(
-            Response(
-                "This form was out of date or came from another page, so nothing was changed. "
-                "Go back, reload the page and try again.",
-                status=400,
-                mimetype="text/plain",
-            )
-        )
-
-
-# --- pages -----------------------------------------------------------------------------
-
-
-def _safe_next(target: str | None) -> str:
-    # Only paths on this server: never send a user elsewhere after unlocking.
-    if target and target.startswith("/") and not target.startswith("//") and "\\" not in target:
-        return target
-    return url_for("auth.settings")
-
-
-@bp.before_request
-def _csrf():
-    check_form_csrf()
-
-
-@bp.get("/settings")
-def settings():
-    return render_template("snippets/settings.html", next=_safe_next(request.args.get("next")))
-
-
-@bp.post("/unlock")
-def unlock_page():
-    passcode = request.form.get("passcode", "")
-    target = _safe_next(request.form.get("next"))
-    try:
-        role = role_for_passcode(passcode) if passcode else None
-    except Locked as exc:
-        return render_template("snippets/settings.html", next=target, passcode_error=exc.message), 429
-    if role is None:
-        message = "That passcode is not right." if passcode else "Type the passcode first."
-        return render_template("snippets/settings.html", next=target, passcode_error=message), 403
-    unlock(role)
-    flash("Unlocked for supervisors on this device." if role == "supervisor" else "Unlocked for saving on this device.")
-    return redirect(target, code=303)
-
-
-@bp.post("/lock")
-def lock_page():
-    session.pop("unlocked", None)
-    flash("Locked again on this device.")
-    return redirect(url_for("auth.settings"), code=303)

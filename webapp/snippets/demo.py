@@ -12,8 +12,9 @@ import json
 from datetime import UTC, datetime, timedelta
 from pathlib import Path
 
-from webapp import db, store
-from webapp.api import CALCULATIONS
+from webapp.calculators import CALCULATIONS
+from webapp.common import db
+from webapp.snippets import rules, store
 
 DATA = Path(__file__).with_name("demo_shop.json")
 
@@ -32,7 +33,7 @@ def fill(data_dir: Path, now: datetime | None = None) -> int:
             return 0
         items = shop()["snippets"]
         for item in sorted(items, key=lambda entry: -entry["days_ago"]):
-            meta = {name: item.get(name, "") for name in store.META_FIELDS}
+            meta = {name: item.get(name, "") for name in rules.META_FIELDS}
             when = (now - timedelta(days=item["days_ago"])).replace(hour=14, minute=5 + item["days_ago"], second=0)
             store.create(conn, item["kind"], item["inputs"], meta, CALCULATIONS, now=when)
         return len(items)

@@ -26,139 +26,21 @@ from flask import (
 )
 
 from calc import InputError
-from webapp import auth, snippets_api, store
-from webapp.api import CALCULATIONS
-from webapp.db import get_db
+from webapp.auth.csrf import protect
+from webapp.auth.gate import form_gate
+from webapp.calculators import BY_KIND, CALCULATIONS, kind_name
+from webapp.common.db import get_db
+from webapp.snippets import api, exchange, rules, store
+from webapp.snippets.rerun import rerun as work_out_again
 
 bp = Blueprint("snippets", __name__)
+protect(bp)
 
 NAME_COOKIE = "inkfilm_name"
-KIND_NAMES = {
-    "convert": "Conversion",
-    "equivalents": "Quick converter",
-    "film": "Film chain",
-    "estimate": "Job ink estimate",
-}
-WHAT = {"write": "Saving and editing", "supervise": "Deleting, the bin and import"}
-# How units read on the page (the API spells them in plain ASCII).
-UNIT_DISPLAY = {
-    "um": "µm",
-    "m2": "m²",
-    "cm3/m2": "cm³/m²",
-    "g/m2": "g/m²",
-    "g/cm3": "g/cm³",
-    "BCM/in2": "BCM/in²",
-    "in2": "in²",
-    "ft2": "ft²",
-    "cm3": "cm³",
-    "mm3": "mm³",
-    "in3": "in³",
-}
-
-
-@bp.before_request
-def _csrf():
-    auth.check_form_csrf()
-
-
-@bp.app_template_filter("kind_name")
-def kind_name(kind: str) -> str:
-    return KIND_NAMES.get(kind, kind.replace("_", " ").capitalize())
-
-
-@bp.app_template_filter("field_name")
-def field_name(name) -> str:
-    """``anilox_to_plate`` → ``Anilox to plate``; ``stations[0].ink_mass`` → ``Station 1 ink mass``."""
-    text = str(name)
-    for index in range(12, -1, -1):
-        text = text.replace(f"stations[{index}].", f"station {index + 1} ")
-    return text.replace("_", " ").replace(".", " ").capitalize()
-
-
-@bp.app_template_filter("number")
-def number(value) -> str:
-    """A number as the floor reads it: up to 4 significant digits, thousands grouped."""
-    if isinstance(value, bool) or not isinstance(value, int | float):
-        return str(value)
-    if abs(value) >= 1000:
-        return f"{value:,.0f}"
-    text = f"{value:.4g}"
-    return f"{value:.6f}".rstrip("0").rstrip(".") if "e" in text else text
-
-
-@bp.app_template_filter("unit")
-def unit(spelling: str) -> str:
-    return UNIT_DISPLAY.get(spelling, spelling)
-
-
-@bp.app_template_filter("when")
-def when(stamp: str | None) -> str:
-    """``2024-05-01T13:45:00Z`` → ``2024-05-01 13:45 UTC``."""
-    return f"{stamp[:10]} {stamp[11:16]} UTC" if stamp else ""
-
-
-SHARES = {
-    "anilox_to_plate",
-    "plate_to_substrate",
-    "solids_by_volume",
-    "solids_by_weight",
-    "coverage",
-    "transfer",
-    "waste",
-}
-
-
-@bp.app_template_global("shown")
-def shown(key, value) -> str:
-    """An input as the floor reads it: shares as percentages, units with their superscripts.
-
-    >>> shown("coverage", 0.455), shown("anilox_volume", "4.5 BCM/in2"), shown("name", "Cyan")
-    ('45.5 %', '4.5 BCM/in²', 'Cyan')
-    """
-    if key in SHARES and isinstance(value, int | float) and not isinstance(value, bool):
-        return f"{value:.4%}".rstrip("%").rstrip("0").rstrip(".") + " %"
-    if isinstance(value, str) and " " in value.strip():
-        amount, _, spelling = value.strip().rpartition(" ")
-        return f"{amount} {unit(spelling)}"
-    return number(value)
-
-
-@bp.app_template_global("is_quantity")
-def is_quantity(value) -> bool:
-    return isinstance(value, dict) and set(value) == {"value", "unit"}
 
 
 def _form_meta() -> dict:
-    return {name: request.form.get(name, "") for name in store.META_FIELDS}
-
-
-def _gate(action: str) -> tuple[str | None, int]:
-    """``(None, 200)`` if this browser may do ``action``; else a message and a status.
-
-    A passcode typed into the same form unlocks this browser on the way.
-    """
-    if auth.allowed(action, auth.session_role()):
-        return None, 200
-    needs = "supervisor" if auth.needed(action) == "supervisor" else "shop"
-    passcode = request.form.get("passcode", "")
-    if not passcode:
-        return f"{WHAT[action]} needs the {needs} passcode: type it here.", 403
-    try:
-        role = auth.role_for_passcode(passcode)
-    except auth.Locked as exc:
-        return exc.message[0].upper() + exc.message[1:] + ".", 429
-    if role is None:
-        return "That passcode is not right.", 403
-    auth.unlock(role)
-    if not auth.allowed(action, role):
-        return f"{WHAT[action]} needs the supervisor passcode.", 403
-    return None, 200
-
-
-def _locked_page(action: str):
-    """The page for a plain link to something locked: what it needs, and where to unlock."""
-    needs = "supervisor" if auth.needed(action) == "supervisor" else "shop"
-    return render_template("snippets/locked.html", what=WHAT[action], needs=needs), 403
+    return {name: request.form.get(name, "") for name in rules.META_FIELDS}
 
 
 # --- list and search --------------------------------------------------------------------------
@@ -194,8 +76,8 @@ def _new_form(kind, inputs, meta, *, errors=None, status=200):
     """The save form for ``inputs``, with today's results (or why there are none)."""
     results, problem = None, None
     try:
-        store.check_kind(kind, CALCULATIONS)
-        results = store.compute(kind, inputs, CALCULATIONS)
+        rules.check_kind(kind, CALCULATIONS)
+        results = rules.compute(kind, inputs, CALCULATIONS)
     except InputError as exc:
         problem = exc
     return (
@@ -208,7 +90,7 @@ def _new_form(kind, inputs, meta, *, errors=None, status=200):
             problem=problem,
             meta=meta,
             errors=errors or {},
-            limits=store.LIMITS,
+            limits=rules.LIMITS,
             presses=store.presses(get_db()),
         ),
         status if problem is None else 400,
@@ -227,10 +109,11 @@ def _default_title(kind: str, inputs) -> str:
     if not isinstance(inputs, dict):
         return kind_name(str(kind))
     # The input a person would name the calculation by, where there is one.
-    key = next((k for k in ("anilox_volume", "quantity", "web_width") if isinstance(inputs.get(k), str)), None)
-    first = inputs[key] if key else None
+    spec = BY_KIND.get(kind)
+    key = spec.main_input if spec else None
+    first = inputs.get(key) if key and isinstance(inputs.get(key), str) else None
     label = kind_name(str(kind))
-    return f"{label}: {first}"[: store.LIMITS["title"]] if first is not None else label
+    return f"{label}: {first}"[: rules.LIMITS["title"]] if first is not None else label
 
 
 @bp.post("/snippets/new")
@@ -239,7 +122,7 @@ def new():
     inputs = _inputs_from_form()
     meta = {
         "title": _default_title(kind, inputs),
-        "saved_by": request.cookies.get(NAME_COOKIE, "")[: store.LIMITS["saved_by"]],
+        "saved_by": request.cookies.get(NAME_COOKIE, "")[: rules.LIMITS["saved_by"]],
     }
     return _new_form(kind, inputs, meta)
 
@@ -249,7 +132,7 @@ def create():
     kind = request.form.get("kind", "")
     inputs = _inputs_from_form()
     meta = _form_meta()
-    message, status = _gate("write")
+    message, status = form_gate("write")
     if message:
         return _new_form(kind, inputs, meta, errors={"passcode": message}, status=status)
     try:
@@ -281,7 +164,7 @@ def short_link(snippet_id: int):
 @bp.get("/snippets/<int:snippet_id>")
 def show(snippet_id: int):
     snippet = _load(snippet_id)
-    rerun = store.rerun(snippet, CALCULATIONS) if request.args.get("rerun") else None
+    rerun = work_out_again(snippet, CALCULATIONS) if request.args.get("rerun") else None
     return render_template(
         "snippets/view.html",
         snippet=snippet,
@@ -305,11 +188,11 @@ def qr(snippet_id: int):
 def keep_today(snippet_id: int):
     """Replace the saved results with today's (after a re-run showed a difference)."""
     snippet = _load(snippet_id)
-    message, status = _gate("write")
+    message, status = form_gate("write")
     if message:
         flash(message)
         return redirect(url_for("snippets.show", snippet_id=snippet_id, rerun=1), code=303)
-    rerun = store.rerun(snippet, CALCULATIONS)
+    rerun = work_out_again(snippet, CALCULATIONS)
     if rerun.error is not None:
         flash("Today's core cannot work these inputs out; the saved results stay.")
         return redirect(url_for("snippets.show", snippet_id=snippet_id, rerun=1), code=303)
@@ -334,7 +217,7 @@ def _edit_form(snippet, meta, *, version, errors=None, newer=None, status=200):
             version=version,
             errors=errors or {},
             newer=newer,
-            limits=store.LIMITS,
+            limits=rules.LIMITS,
             presses=store.presses(get_db()),
         ),
         status,
@@ -344,7 +227,7 @@ def _edit_form(snippet, meta, *, version, errors=None, newer=None, status=200):
 @bp.get("/snippets/<int:snippet_id>/edit")
 def edit(snippet_id: int):
     snippet = _load(snippet_id)
-    meta = {name: snippet[name] for name in store.META_FIELDS}
+    meta = {name: snippet[name] for name in rules.META_FIELDS}
     meta["tags"] = ", ".join(snippet["tags"])
     return _edit_form(snippet, meta, version=snippet["version"])
 
@@ -363,7 +246,7 @@ def update(snippet_id: int):
         message = "Deleted by someone else meanwhile: it is in the bin. Restore it from the bin, then save again."
         return _edit_form(snippet, meta, version=request.form.get("version", ""), errors={"form": message}, status=409)
     version = request.form.get("version", "")
-    message, status = _gate("write")
+    message, status = form_gate("write")
     if message:
         return _edit_form(snippet, meta, version=version, errors={"passcode": message}, status=status)
     try:
@@ -390,7 +273,7 @@ def update(snippet_id: int):
 @bp.post("/snippets/<int:snippet_id>/delete")
 def delete(snippet_id: int):
     snippet = _load(snippet_id)
-    message, status = _gate("supervise")
+    message, status = form_gate("supervise")
     if message:
         return render_template("snippets/view.html", snippet=snippet, rerun=None, delete_error=message), status
     try:
@@ -408,7 +291,7 @@ def delete(snippet_id: int):
 
 @bp.route("/snippets/bin", methods=["GET", "POST"])
 def bin_page():
-    message, status = _gate("supervise")
+    message, status = form_gate("supervise")
     if message:
         return render_template("snippets/bin.html", snippets=None, gate_error=message), status
     if request.method == "POST":
@@ -419,7 +302,7 @@ def bin_page():
 
 @bp.post("/snippets/<int:snippet_id>/restore")
 def restore(snippet_id: int):
-    message, status = _gate("supervise")
+    message, status = form_gate("supervise")
     if message:
         return render_template("snippets/bin.html", snippets=None, gate_error=message), status
     try:
@@ -436,7 +319,7 @@ def restore(snippet_id: int):
 
 @bp.get("/snippets/export.json")
 def export_json():
-    body = json.dumps(store.export_all(get_db()), ensure_ascii=False, indent=1)
+    body = json.dumps(exchange.export_all(get_db()), ensure_ascii=False, indent=1)
     return Response(
         body,
         mimetype="application/json",
@@ -447,14 +330,14 @@ def export_json():
 @bp.get("/snippets/export.csv")
 def export_csv():
     # The same file as the API's export.
-    return snippets_api.export_csv()
+    return api.export_csv()
 
 
 @bp.route("/snippets/import", methods=["GET", "POST"])
 def import_page():
     if request.method == "GET":
         return render_template("snippets/import.html", errors={})
-    message, status = _gate("supervise")
+    message, status = form_gate("supervise")
     if message:
         return render_template("snippets/import.html", errors={"passcode": message}), status
     upload = request.files.get("file")
@@ -462,7 +345,7 @@ def import_page():
         return render_template("snippets/import.html", errors={"file": "Choose an export file first."}), 400
     try:
         data = json.loads(upload.read().decode("utf-8-sig"))
-        counts = store.import_all(get_db(), data)
+        counts = exchange.import_all(get_db(), data)
     except InputError as exc:
         where = f"{exc.field}: " if exc.field else ""
         error = f"Nothing was imported. {where}{exc.message}."

@@ -1,0 +1,42 @@
+"""Request bodies the tests share: one valid body per calculation, as the API takes it."""
+
+from __future__ import annotations
+
+import copy
+
+FILM = {"anilox_volume": "4 BCM/in2", "anilox_to_plate": 0.5, "plate_to_substrate": 0.5}
+FILM_FULL = {**FILM, "solids_by_volume": 0.3, "solids_by_weight": 0.4, "ink_density": "1.05 g/cm3"}
+CONVERT = {"quantity": "3.5 BCM/in2", "to": "cm3/m2", "density": "1.05 g/cm3"}
+EQUIVALENTS = {"quantity": "4.5 BCM/in2", "density": "1.05 g/cm3", "coverage": 0.4}
+ESTIMATE_UNPRICED = {
+    "web_width": "330 mm",
+    "run_length": "12000 m",
+    "waste": 0.05,
+    "stations": [
+        {"name": "Cyan", "anilox_volume": "3 BCM/in2", "coverage": 0.4, "transfer": 0.3, "ink_density": "1.0 g/cm3"}
+    ],
+}
+ESTIMATE = copy.deepcopy(ESTIMATE_UNPRICED)
+ESTIMATE["stations"][0]["price_per_kg"] = 12.5
+ESTIMATE_BY_IMPRESSIONS = {
+    "web_width": "13 in",
+    "impressions": 50000,
+    "repeat": "12 in",
+    "waste": 0.05,
+    "stations": [
+        {"name": "White", "anilox_volume": "6 cm3/m2", "coverage": 0.9, "transfer": 0.3, "ink_density": "1.3 g/cm3"}
+    ],
+}
+
+# One valid body for every calculation endpoint, by kind.
+BY_KIND = {
+    "convert": CONVERT,
+    "equivalents": EQUIVALENTS,
+    "film": FILM_FULL,
+    "estimate": ESTIMATE,
+}
+
+
+def fresh(body: dict) -> dict:
+    """A copy to change without touching the shared one."""
+    return copy.deepcopy(body)

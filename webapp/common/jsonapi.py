@@ -1,0 +1,75 @@
+"""The ``/api/v1`` parent blueprint: what every JSON endpoint shares.
+
+Each feature's API is a child of ``api`` (Flask's nested blueprints), so the
+body limit, the error handlers and the error shape are written once:
+``{"error": {"field", "message"}}`` for every 4xx. Requests give quantities
+as strings ``"<number> <unit>"`` and shares as plain numbers from 0 to 1;
+answers give quantities as ``{"value", "unit"}``.
+"""
+
+from __future__ import annotations
+
+from flask import Blueprint, jsonify, request
+
+from calc import InputError
+from webapp.common.errors import WebError
+
+api = Blueprint("api", __name__, url_prefix="/api/v1")
+
+# Calculation bodies are small; a child may raise this for one endpoint (an import).
+MAX_BODY = 64 * 1024
+
+
+def error_response(field: str | None, message: str, status: int = 400):
+    response = jsonify(error={"field": field, "message": message})
+    response.status_code = status
+    return response
+
+
+@api.errorhandler(InputError)
+def input_error(exc: InputError):
+    return error_response(exc.field, exc.message, 400)
+
+
+@api.errorhandler(WebError)
+def web_error(exc: WebError):
+    response = error_response(exc.field, exc.message, exc.status)
+    if exc.retry_after is not None:
+        response.headers["Retry-After"] = str(max(1, round(exc.retry_after)))
+    return response
+
+
+@api.before_request
+def limit_body():
+    # Flask reads this per request; a child's own before_request may raise it.
+    request.max_content_length = MAX_BODY
+
+
+def quantity_json(quantity, unit: str | None = None) -> dict:
+    """``{"value": <full precision>, "unit": <spelling>}`` in ``unit`` (as spelt)."""
+    if unit is not None:
+        quantity = quantity.to(unit)
+    spelling = unit if unit is not None else f"{quantity.units:~P}"
+    return {"value": float(quantity.magnitude), "unit": spelling}
+
+
+def check_fields(body, required: set[str], optional: set[str] = frozenset(), prefix: str = "") -> dict:
+    """``body`` checked for missing and unknown fields; optional ``null`` fields count as absent."""
+    where = f"{prefix}." if prefix else ""
+    if not isinstance(body, dict):
+        raise InputError(prefix or None, "must be a JSON object")
+    for name in body:
+        if name not in required and name not in optional:
+            raise InputError(f"{where}{name}", "is not a field of this request")
+    for name in sorted(required):
+        if body.get(name) is None:
+            raise InputError(f"{where}{name}", "is required")
+    return {name: value for name, value in body.items() if value is not None}
+
+
+def request_body() -> dict:
+    """The request's JSON body, which must be an object."""
+    body = request.get_json(force=True, silent=True)
+    if not isinstance(body, dict):
+        raise InputError(None, "the request body must be a JSON object")
+    return body

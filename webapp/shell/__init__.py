@@ -1,0 +1,67 @@
+"""The app shell: the unit preference, the offline page and the service worker.
+
+The service worker caches the calculator pages (from the calculator registry)
+and the static files, so the installed app opens at once and still opens when
+the shop network drops.
+"""
+
+from __future__ import annotations
+
+from flask import Blueprint, make_response, redirect, render_template, request
+
+from calc.display import SYSTEMS
+from webapp.calculators import PAGES
+from webapp.common.assets import ONE_YEAR, asset, build_version
+from webapp.common.preference import UNITS_COOKIE, current_system
+from webapp.common.urls import safe_next
+
+bp = Blueprint("shell", __name__)
+
+STATIC_FILES = (
+    "vendor/htmx-2.0.11.min.js",
+    "css/inkfilm.css",
+    "css/print.css",
+    "js/inkfilm.js",
+    "inkfilm.webmanifest",
+    "icons/inkfilm.svg",
+)
+
+
+def shell_pages() -> list[str]:
+    """The pages the installed app opens without the server."""
+    return [spec.path for spec in PAGES] + ["/offline"]
+
+
+@bp.app_context_processor
+def unit_preference() -> dict:
+    return {"unit_system": current_system()}
+
+
+@bp.post("/units")
+def set_units():
+    """Remember metric or imperial on this device (a cookie), then go back (plain form post)."""
+    system = request.form.get("system", "metric")
+    response = redirect(safe_next(request.form.get("next")), code=303)
+    if system in SYSTEMS:
+        response.set_cookie(UNITS_COOKIE, system, max_age=ONE_YEAR, samesite="Lax", httponly=False)
+    return response
+
+
+@bp.get("/offline")
+def offline():
+    return render_template("offline.html")
+
+
+@bp.get("/sw.js")
+def service_worker():
+    pages = shell_pages()
+    shell = pages + [asset(name) for name in STATIC_FILES]
+    body = render_template("sw.js", version=build_version(), shell=shell, shell_pages=pages)
+    response = make_response(body)
+    response.mimetype = "text/javascript"
+    response.headers["Cache-Control"] = "no-cache"
+    return response
+
+
+def init_app(app) -> None:
+    app.register_blueprint(bp)

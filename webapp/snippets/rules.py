@@ -1,0 +1,99 @@
+"""The rules of a saved snippet: what it may hold, checked before anything is written.
+
+A snippet is one calculation as the API knows it: its ``kind`` (a calculator
+of ``webapp.calculators``), its ``inputs`` (the API request body) and its
+``results`` (the API's answer), with a title, an optional job number, press
+and station, notes, tags and who saved it. These functions raise
+``calc.InputError`` for anything a user sent wrong.
+"""
+
+from __future__ import annotations
+
+import re
+
+from calc import InputError
+
+# Longest text a field takes, in characters.
+LIMITS = {
+    "title": 120,
+    "job_number": 40,
+    "press": 60,
+    "station": 40,
+    "notes": 4000,
+    "saved_by": 60,
+}
+MAX_TAGS = 12
+MAX_TAG = 30
+META_FIELDS = ("title", "job_number", "press", "station", "notes", "tags", "saved_by")
+KIND_PATTERN = re.compile(r"^[a-z][a-z0-9_]{0,39}$")
+
+
+def parse_tags(value) -> list[str]:
+    """Tags from ``"white, opaque"`` or ``["white", "opaque"]``: trimmed, lower case, each once.
+
+    >>> parse_tags(" Opaque white, repeat job,,opaque white ")
+    ['opaque white', 'repeat job']
+    """
+    if value is None:
+        return []
+    if isinstance(value, str):
+        items = value.split(",")
+    elif isinstance(value, list) and all(isinstance(item, str) for item in value):
+        items = value
+    else:
+        raise InputError("tags", "must be text, tags separated by commas")
+    tags: list[str] = []
+    for item in items:
+        tag = " ".join(item.split()).lower()
+        if tag and tag not in tags:
+            if len(tag) > MAX_TAG:
+                raise InputError("tags", f"a tag may be at most {MAX_TAG} characters long ('{tag[:MAX_TAG]}…')")
+            tags.append(tag)
+    if len(tags) > MAX_TAGS:
+        raise InputError("tags", f"at most {MAX_TAGS} tags, please (this has {len(tags)})")
+    return tags
+
+
+def check_meta(data: dict, *, partial: bool = False) -> dict:
+    """The title, job number, press, station, notes, tags and name in ``data``, checked.
+
+    With ``partial`` only the fields present are checked (an edit); otherwise a
+    title is required.
+    """
+    clean: dict = {}
+    for name in META_FIELDS:
+        if name not in data:
+            continue
+        value = data[name]
+        if name == "tags":
+            clean["tags"] = parse_tags(value)
+            continue
+        if value is None:
+            value = ""
+        if not isinstance(value, str):
+            raise InputError(name, "must be text")
+        # Notes keep their line breaks; one-line fields lose stray spaces.
+        value = value.strip() if name == "notes" else " ".join(value.split())
+        value = value.replace("\r\n", "\n")
+        if len(value) > LIMITS[name]:
+            raise InputError(name, f"may be at most {LIMITS[name]} characters long (this is {len(value)})")
+        clean[name] = value
+    if (not partial or "title" in clean) and not clean.get("title"):
+        raise InputError("title", "is required: a few words to find this by")
+    return clean
+
+
+def check_kind(kind, calculations: dict) -> str:
+    if not isinstance(kind, str) or kind not in calculations:
+        raise InputError("kind", f"must be one of: {', '.join(sorted(calculations))}")
+    return kind
+
+
+def compute(kind: str, inputs, calculations: dict) -> dict:
+    """The API's answer for ``inputs``; a bad input is reported inside ``inputs``."""
+    if not isinstance(inputs, dict):
+        raise InputError("inputs", "must be a JSON object: the calculation's request body")
+    try:
+        return calculations[kind](dict(inputs))
+    except InputError as exc:
+        raise exc.within("inputs") from None
