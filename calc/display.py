@@ -20,6 +20,7 @@ import math
 from dataclasses import dataclass
 from decimal import ROUND_HALF_UP, Decimal
 
+from calc.steps import Count, Money
 from calc.units import Q_  # noqa: F401 (Q_ for the doctests)
 
 SIGNIFICANT = 3
@@ -198,7 +199,13 @@ def show_value(value, system: str) -> str:
     '0.275 mil'
     >>> show_value(Q_(4.5, "BCM/in2"), "metric")
     '4.5 BCM/in²'
+    >>> show_value(Count(16667), "metric"), show_value(Money(12.5), "metric")
+    ('16,667', '12.50')
     """
+    if isinstance(value, Count):
+        return f"{value:,}"
+    if isinstance(value, Money):
+        return format_money(value)
     if isinstance(value, int | float):
         return f"{format_percent(value)} %"
     role = _CORE_UNIT_ROLES.get(str(value.units))

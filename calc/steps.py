@@ -30,3 +30,11 @@ class Working:
     def add(self, label: str, symbol: str, formula: str, inputs: dict, result):
         self.steps.append(Step(label, symbol, formula, tuple(inputs.items()), result))
         return result
+
+
+class Count(int):
+    """A whole number in the working (impressions, labels, labels across), read as a count, not a share."""
+
+
+class Money(float):
+    """A price or cost in the working, in the currency of the prices, read as money, not a share."""
