@@ -31,7 +31,7 @@ def create_app(test_config: dict | None = None) -> Flask:
         app.config.update(test_config)
     Path(app.config["DATA_DIR"]).mkdir(parents=True, exist_ok=True)
 
-    from webapp import api, auth, db, pages, snippets, snippets_api
+    from webapp import api, auth, db, https, pages, snippets, snippets_api
 
     app.register_blueprint(api.bp)
     # The pages (converters, film chain, estimate), security headers, compression.
@@ -41,6 +41,8 @@ def create_app(test_config: dict | None = None) -> Flask:
     auth.init_app(app)
     app.register_blueprint(snippets_api.bp)
     app.register_blueprint(snippets.bp)
+    # HTTPS: the phone set-up page, Secure cookies, the plain port behind Caddy.
+    https.init_app(app)
 
     @app.errorhandler(HTTPException)
     def http_error(exc: HTTPException):
