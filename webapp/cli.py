@@ -107,7 +107,9 @@ def serve_command(args) -> int:
             host=args.host,
             http_port=args.port,
             https_port=args.https_port,
-            names=https_front.machine_names(args.host, args.name),
+            names=https_front.own_certificate_names(args.tls_cert, args.name)
+            if args.tls_cert
+            else https_front.machine_names(args.host, args.name),
             tls_cert=args.tls_cert.resolve() if args.tls_cert else None,
             tls_key=args.tls_key.resolve() if args.tls_key else None,
         )

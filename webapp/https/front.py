@@ -170,6 +170,24 @@ def is_ip(name: str) -> bool:
     return True
 
 
+def certificate_names(path: Path) -> list[str]:
+    """The DNS names and IP addresses a PEM certificate file (its first certificate) covers."""
+    try:
+        # The ssl module's own decoder (no third-party parser needed).
+        info = ssl._ssl._test_decode_cert(str(path))
+    except (AttributeError, ssl.SSLError, OSError, ValueError):
+        return []
+    return [value.strip().lower() for kind, value in info.get("subjectAltName", ()) if kind in ("DNS", "IP Address")]
+
+
+def own_certificate_names(path: Path, extra: list[str]) -> list[str]:
+    """For --tls-cert: the names it covers, --name values first, names without a wildcard before those with."""
+    covered = certificate_names(path)
+    given = [n.strip().lower().rstrip(".") for n in extra if n.strip()]
+    names = list(dict.fromkeys(given + [n for n in covered if "*" not in n] + [n for n in covered if "*" in n]))
+    return names or ["localhost"]
+
+
 # --- the root certificate ------------------------------------------------------------
 
 
@@ -232,6 +250,10 @@ def caddy_config(front: Front) -> dict:
         },
     }
     if front.tls_cert:
+        plain = [n for n in front.names if "*" not in n and not is_ip(n)]
+        if plain:
+            # A phone that comes by address sends no name: give it the shop's certificate all the same.
+            https_server["tls_connection_policies"] = [{"default_sni": plain[0]}]
         apps["tls"] = {
             "certificates": {
                 "load_files": [{"certificate": str(front.tls_cert), "key": str(front.tls_key), "tags": ["shop"]}]
@@ -359,6 +381,9 @@ class Caddy:
     def _wait_ready(self, timeout: float) -> None:
         deadline = time.monotonic() + timeout
         pending = list(self.front.names)
+        if self.front.tls_cert:
+            # The shop's own certificate: one handshake shows Caddy serves it.
+            pending = [next((n for n in pending if "*" not in n), "localhost")]
         while pending:
             if self.process.poll() is not None:
                 raise FrontError(self.failure())
@@ -375,7 +400,8 @@ class Caddy:
     def _answers(self, name: str) -> bool:
         """Whether a TLS handshake for ``name`` succeeds against the shop's root (or, own certificate, at all)."""
         front = self.front
-        address = name if is_ip(name) else ("127.0.0.1" if front.host in ("0.0.0.0", "::", "") else front.host)
+        local = "127.0.0.1" if front.host in ("0.0.0.0", "::", "") else front.host
+        address = name if is_ip(name) and not front.tls_cert else local
         if front.tls_cert:
             context = ssl.create_default_context()
             context.check_hostname = False
@@ -387,7 +413,8 @@ class Caddy:
             context = ssl.create_default_context(cafile=str(root))
         try:
             with socket.create_connection((address, front.https_port), timeout=1) as raw:
-                with context.wrap_socket(raw, server_hostname=name):
+                hostname = None if front.tls_cert and is_ip(name) else name
+                with context.wrap_socket(raw, server_hostname=hostname):
                     return True
         except (OSError, ssl.SSLError):
             return False
