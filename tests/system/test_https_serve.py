@@ -344,8 +344,8 @@ def test_with_the_shops_own_certificate_no_ca_is_made_and_phones_need_no_setup(s
         with pytest.raises(urllib.error.HTTPError) as missing:
             urllib.request.urlopen(server.http("/setup/inkfilm-shop-root.crt"), timeout=5)
         assert missing.value.code == 404
+        missing.value.close()
         assert not (server.data_dir / "caddy" / "storage" / "pki").exists()
-        server.root  # noqa: B018 - the path exists only in the other data folder
         with socket.create_connection(("127.0.0.1", server.https_port), timeout=5) as raw:
             with root_context(shop.root).wrap_socket(raw, server_hostname=NAME) as tls:
                 assert NAME in {v for _k, v in tls.getpeercert()["subjectAltName"]}
