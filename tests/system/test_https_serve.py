@@ -59,7 +59,7 @@ class Server:
 def start_https(tmp_path: Path, *extra: str, env: dict | None = None, wait: bool = True) -> Server:
     """Start ``inkfilm serve`` with HTTPS on free loopback ports and HOME in ``tmp_path/home``."""
     data_dir, home = tmp_path / "data", tmp_path / "home"
-    home.mkdir(exist_ok=True)
+    home.mkdir(parents=True, exist_ok=True)
     http_port, https_port = free_port(), free_port()
     process = subprocess.Popen(
         [
