@@ -52,7 +52,9 @@ def wait_for(url: str, seconds: float = 15.0) -> float:
 
 
 def start_server(data_dir: Path, *extra: str, env: dict | None = None):
-    """Start ``inkfilm serve`` (waitress) on a free loopback port; return (process, base URL)."""
+    """Start ``inkfilm serve --no-https`` (waitress alone) on a free loopback port; return (process, base URL).
+
+    The HTTPS front (Caddy) is tested in tests/system/test_https_serve.py."""
     port = free_port()
     process = subprocess.Popen(
         [
@@ -60,6 +62,7 @@ def start_server(data_dir: Path, *extra: str, env: dict | None = None):
             "-m",
             "webapp.cli",
             "serve",
+            "--no-https",
             "--host",
             "127.0.0.1",
             "--port",

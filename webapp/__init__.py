@@ -32,7 +32,7 @@ def create_app(test_config: dict | None = None) -> Flask:
         app.config.update(test_config)
     Path(app.config["DATA_DIR"]).mkdir(parents=True, exist_ok=True)
 
-    from webapp import auth, calculators, shell, snippets
+    from webapp import auth, calculators, https, shell, snippets
     from webapp.common import assets, db, formatting, jsonapi, security
 
     # Plumbing every page shares.
@@ -46,6 +46,8 @@ def create_app(test_config: dict | None = None) -> Flask:
     calculators.init_app(app)
     shell.init_app(app)
     snippets.init_app(app)
+    # HTTPS: the phone set-up page, Secure cookies, the plain port behind Caddy.
+    https.init_app(app)
     # The JSON API last: every feature has nested its child under it by now.
     app.register_blueprint(jsonapi.api)
 

@@ -17,7 +17,35 @@ def build_parser() -> argparse.ArgumentParser:
 
     serve = commands.add_parser("serve", help="serve the app on the shop network")
     serve.add_argument("--host", default="0.0.0.0", help="address to listen on (default 0.0.0.0, every interface)")
-    serve.add_argument("--port", type=int, default=8080, help="port to listen on (default 8080)")
+    serve.add_argument(
+        "--port",
+        type=int,
+        default=8080,
+        help="plain HTTP port: the phone set-up page, the rest redirected to HTTPS (default 8080; "
+        "with --no-https the app itself)",
+    )
+    serve.add_argument("--https-port", type=int, default=8443, help="HTTPS port for the app (default 8443)")
+    serve.add_argument(
+        "--name",
+        action="append",
+        default=[],
+        metavar="NAME",
+        help="a host name phones use for this server, e.g. inkfilm.local (repeatable); the certificate covers "
+        "these besides this machine's addresses and host name",
+    )
+    serve.add_argument(
+        "--tls-cert",
+        type=Path,
+        metavar="PEM",
+        help="the shop's own certificate (chain) instead of inkfilm's shop root; needs --tls-key",
+    )
+    serve.add_argument("--tls-key", type=Path, metavar="PEM", help="the private key of --tls-cert")
+    serve.add_argument(
+        "--no-https",
+        action="store_true",
+        help="serve plain HTTP on --port only, as behind the shop's own HTTPS proxy (phones then get no "
+        "offline pages or home-screen app unless that proxy serves HTTPS)",
+    )
     serve.add_argument(
         "--data-dir",
         type=Path,
@@ -63,6 +91,29 @@ def serve_command(args) -> int:
     config = {"DATA_DIR": str(data_dir), "DEMO": args.demo}
     shop = args.shop_passcode or os.environ.get("INKFILM_SHOP_PASSCODE")
     supervisor = args.supervisor_passcode or os.environ.get("INKFILM_SUPERVISOR_PASSCODE")
+    front = None
+    if not args.no_https:
+        from webapp.https import front as https_front
+
+        if bool(args.tls_cert) != bool(args.tls_key):
+            print("inkfilm: --tls-cert and --tls-key go together: give both, or neither", file=sys.stderr)
+            return 2
+        for option, path in (("--tls-cert", args.tls_cert), ("--tls-key", args.tls_key)):
+            if path and not path.is_file():
+                print(f"inkfilm: {option} {path}: there is no such file", file=sys.stderr)
+                return 2
+        front = https_front.Front(
+            data_dir=data_dir,
+            host=args.host,
+            http_port=args.port,
+            https_port=args.https_port,
+            names=https_front.own_certificate_names(args.tls_cert, args.name)
+            if args.tls_cert
+            else https_front.machine_names(args.host, args.name),
+            tls_cert=args.tls_cert.resolve() if args.tls_cert else None,
+            tls_key=args.tls_key.resolve() if args.tls_key else None,
+        )
+        config["HTTPS_FRONT"] = front.settings()
     if shop:
         config["SHOP_PASSCODE"] = shop
     if supervisor:
@@ -82,6 +133,8 @@ def serve_command(args) -> int:
     locks = [name for name, value in (("shop", shop), ("supervisor", supervisor)) if value]
     lock_note = f"passcodes set: {', '.join(locks)}" if locks else "no passcodes: the floor can write freely"
     # The passcodes themselves are never printed.
+    if front is not None:
+        return https_front.serve(app, front, threads=args.threads, note=lock_note)
     print(
         f"inkfilm: serving on http://{args.host}:{args.port}/ with data in {data_dir} ({lock_note})",
         flush=True,
