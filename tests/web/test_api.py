@@ -74,7 +74,7 @@ def test_estimate_contract(client):
     assert station["substrate_wet"]["unit"] == "um"
     assert station["ink_mass"]["unit"] == "kg"
     assert station["ink_volume"]["unit"] == "l"
-    # Worked by hand in tests/test_film.py: 2.32017 kg, 29.0021 in the price's currency
+    # Worked by hand in tests/calc/test_film.py: 2.32017 kg, 29.0021 in the price's currency
     assert round(station["ink_mass"]["value"], 5) == 2.32017
     assert round(answer["total_cost"], 4) == 29.0021
     assert answer["total_ink_mass"] == station["ink_mass"]

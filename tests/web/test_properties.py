@@ -9,7 +9,7 @@ from hypothesis import strategies as st
 from calc import InputError
 from calc.film import film_chain
 from calc.units import convert
-from tests.test_units import GROUPS
+from tests.calc.test_units import GROUPS
 
 positive = st.floats(min_value=1e-6, max_value=1e6, allow_nan=False, allow_infinity=False)
 fraction = st.floats(min_value=0.0, max_value=1.0)
