@@ -146,13 +146,8 @@ def job_ink(
         length = _length(run_length, "run_length", RUN_LENGTH_HIGH, "the run length", "12000 m or 40000 ft")
     elif impressions is not None and repeat is not None:
         r = _length(repeat, "repeat", REPEAT_HIGH, "the repeat", "18 in or 457 mm")
-        length = work.add(
-            "Run length",
-            "L",
-            "L = n × r",
-            {"n": float(impressions), "r": r},
-            run_length_from_impressions(impressions, r),
-        )
+        run = run_length_from_impressions(impressions, r)  # checks impressions before they are used
+        length = work.add("Run length", "L", "L = n × r", {"n": float(impressions), "r": r}, run)
     elif impressions is not None:
         raise InputError("repeat", "with impressions, give the repeat length too (e.g. '18 in')")
     elif repeat is not None:
