@@ -8,6 +8,29 @@ and ``Q_`` makes quantities in it. Nobody else builds a ``UnitRegistry``.
 <Quantity(1.55000, 'centimeter ** 3 / meter ** 2')>
 >>> parse_quantity("0.6 mil", "thickness").to("um")  # doctest: +NUMBER
 <Quantity(15.24, 'micrometer')>
+
+Unit spellings are checked before pint sees them
+------------------------------------------------
+pint evaluates exponents exactly, as Python integers: ``m**9**9**9`` asks for
+9 to the power 9**9, a number of some 370 million digits, and the
+interpreter holds the GIL until it is done, so every worker of the server
+stops (``/healthz`` too). :func:`parse_unit` is therefore the one door for
+unit text a person typed or a client sent (every endpoint, form, saved
+snippet and re-run reads units through it), and it lets pint parse only
+spellings of a small grammar, checked on the text after :func:`_normalise`
+(and its length before)::
+
+    unit    := factor (("*" | "/" | " ") factor)*
+    factor  := (name | "1" | "(" unit ")") [power]
+    name    := a letter, µ, ° or _, then letters, µ, °, _ or digits
+    power   := "**" whole number from -4 to 4
+
+with at most one power per factor (no ``m**2**2``), brackets at most two
+deep and at most 40 characters. What pint makes of it must then be at most
+the fourth power of any dimension and worth between 10**-100 and 10**100 of
+its base units, so that no conversion of a value from :data:`MIN_MAGNITUDE`
+to :data:`MAX_MAGNITUDE` can overflow. Anything else is an
+:class:`InputError` naming the field, in plain words.
 """
 
 from __future__ import annotations
@@ -24,21 +47,37 @@ from calc.errors import InputError
 # --- Spellings people type ----------------------------------------------------
 # pint reads ``in**2`` and ``in²`` but not the everyday ``in2``; ``mil`` is an
 # angle in pint while the trade's mil is a thousandth of an inch (pint's
-# ``thou``); and people type ``lines/in`` for line screen.
+# ``thou``); and people type ``lines/in`` for line screen. Carets and
+# superscripts become ``**`` here, so that the grammar below sees every power
+# pint will see (pint would otherwise rewrite them after the check).
+_SUPERSCRIPT_DIGITS = str.maketrans("⁰¹²³⁴⁵⁶⁷⁸⁹⁻⁺", "0123456789-+")
+
+
+def _superscript_power(match: re.Match) -> str:
+    """A run of superscripts is one power: ``m³`` is ``m**3``, ``m³³³³`` is ``m**3333`` (refused)."""
+    return "**" + match.group().translate(_SUPERSCRIPT_DIGITS)
+
+
 _WORD_SUBSTITUTIONS = [
     (re.compile(r"\blines?\s*/\s*(?:in|inch)\b"), "lpi"),
     (re.compile(r"\blines?\s*/\s*cm\b"), "lpcm"),
     (re.compile(r"\bmils?\b"), "thou"),
     (re.compile(r"\bbcm\b"), "BCM"),
     (re.compile(r"μ"), "µ"),  # Greek mu to the micro sign
-    (re.compile(r"²"), "**2"),
-    (re.compile(r"³"), "**3"),
+    (re.compile(r"[·×]"), "*"),
+    (re.compile(r"\^"), "**"),
+    (re.compile(r"[⁻⁺]?[⁰¹²³⁴⁵⁶⁷⁸⁹]+"), _superscript_power),
     # a unit name followed directly by 2 or 3 is a power: in2, cm3, ft2
     (re.compile(r"(?<=[A-Za-zµ])([23])\b"), r"**\1"),
 ]
 
 
 def _normalise(text: str) -> str:
+    """The everyday spellings above rewritten as pint reads them (also pint's preprocessor).
+
+    Applying it twice gives what applying it once does, so pint may run it
+    again on text :func:`parse_unit` has already normalised and checked.
+    """
     for pattern, replacement in _WORD_SUBSTITUTIONS:
         text = pattern.sub(replacement, text)
     return text
@@ -84,31 +123,157 @@ LINE_SCREEN = (1 / ureg.meter).dimensionality
 # enough that products of a few such numbers stay finite.
 MAX_MAGNITUDE = 1e15
 
+# A value this close to zero, other than zero, is a typing or unit slip; it
+# also keeps reciprocals (ink mileage from coat weight) finite.
+MIN_MAGNITUDE = 1 / MAX_MAGNITUDE
+
 _NUMBER = re.compile(r"^\s*([+-]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][+-]?\d+)?)\s*(.*?)\s*$")
+
+# --- The unit grammar (see the module docstring) ------------------------------
+
+MAX_UNIT_CHARS = 40
+MAX_POWER = 4
+MAX_BRACKET_DEPTH = 2
+# Base units per unit: beyond these no pressroom unit lies, and within them a
+# value up to MAX_MAGNITUDE converts to any other such unit without overflow.
+UNIT_FACTOR_LOW, UNIT_FACTOR_HIGH = 1e-100, 1e100
+
+_UNIT_CHARACTER = re.compile(r"[A-Za-zµ°_0-9*/() +\-]")
+_NAME = re.compile(r"[A-Za-zµ°_][A-Za-zµ°_0-9]*")
+_ONE = re.compile(r"1(?![\w.])")
+_POWER = re.compile(r"\*\*\s*([-+]?\d{1,3})(?![\w.])")
+_NOT_A_POWER = "a power must be a whole number from -4 to 4, as in m**2 or in**-1"
+
+
+def _stray_character(text: str) -> str | None:
+    """Plain words for the first character no unit spelling has, if any (never echoing it raw)."""
+    for character in text:
+        if not _UNIT_CHARACTER.fullmatch(character):
+            if character.isprintable():
+                return f"'{character}' is not part of any unit"
+            return f"the text has a character that is not part of any unit (U+{ord(character):04X})"
+    return None
+
+
+def _grammar_problem(text: str) -> str | None:
+    """Why normalised ``text`` is not of the unit grammar, or None if it is.
+
+    One pass, left to right: a factor is expected at the start, after ``*``,
+    ``/`` or ``(``, and after a space that follows a factor (pint reads a space
+    as multiplication); a factor may carry one power.
+    """
+    depth = 0
+    expect_factor = True
+    powered = False
+    index = 0
+    while index < len(text):
+        character = text[index]
+        if character == " ":
+            index += 1
+            continue
+        if not expect_factor and text[index - 1] == " " and (character == "(" or _NAME.match(text, index)):
+            expect_factor = True  # "lb ream" is lb*ream
+        if expect_factor:
+            if character == "(":
+                depth += 1
+                if depth > MAX_BRACKET_DEPTH:
+                    return "brackets may go at most two deep"
+                index += 1
+                continue
+            factor = _NAME.match(text, index) or _ONE.match(text, index)
+            if not factor:
+                return "a unit name (starting with a letter) is missing"
+            index = factor.end()
+            expect_factor, powered = False, False
+            continue
+        if text.startswith("**", index):
+            if powered:
+                return "use one power per unit, as in m**3 (not m**3**3)"
+            power = _POWER.match(text, index)
+            if not power:
+                return _NOT_A_POWER
+            if abs(int(power.group(1))) > MAX_POWER:
+                return "powers above 4 are not units a pressroom uses"
+            index, powered = power.end(), True
+            continue
+        if character in "*/":
+            expect_factor = True
+            index += 1
+            continue
+        if character == ")":
+            if depth == 0:
+                return "a bracket closes that was never opened"
+            depth -= 1
+            powered = False
+            index += 1
+            continue
+        return "a '*' or '/' is missing between units"
+    if expect_factor:
+        return "it ends without a unit"
+    if depth:
+        return "a bracket is left open"
+    return None
 
 
 @lru_cache(maxsize=512)
-def _parse_unit_cached(text: str) -> pint.Unit:
-    return ureg.parse_units(text)
+def _read_unit(text: str, normalised: str) -> pint.Unit | str:
+    """The pint unit for ``normalised`` (checked), or plain words for what is wrong with ``text``."""
+    try:
+        unit = ureg.parse_units(normalised)
+    except pint.UndefinedUnitError as exc:
+        unknown = ", ".join(f"'{_spelling_in(text, name)}'" for name in exc.unit_names)
+        return f"unit {unknown} is not understood (in '{text}')"
+    except Exception:  # pint's parser raises many kinds on garbled text
+        return f"'{text}' is not a unit inkfilm understands"
+    # pint's own word forms ("square m**4" is m**2**4) can still raise a power.
+    for dimension, power in unit.dimensionality.items():
+        if abs(power) > MAX_POWER:
+            name = dimension.strip("[]")
+            return f"'{text}' comes to {name} to the power {power:g}: powers above 4 are not units a pressroom uses"
+    try:
+        factor, _ = ureg.get_base_units(unit)
+        factor = 1.0 if factor is None else abs(float(factor))  # None: an offset unit such as degC
+    except (ArithmeticError, ValueError):
+        factor = math.inf
+    if not UNIT_FACTOR_LOW <= factor <= UNIT_FACTOR_HIGH:
+        return f"'{text}' is far too large or too small a unit to be a real one"
+    return unit
 
 
 def parse_unit(text, field: str | None = "unit") -> pint.Unit:
     """Read a unit spelling such as ``"BCM/in2"``, ``"cm³/m²"`` or ``"mil"``.
 
-    Raises :class:`InputError` naming ``field`` when the spelling is unknown.
+    The one place where unit text from outside reaches pint: the spelling is
+    checked against the grammar of the module docstring first, because pint
+    evaluates powers exactly and ``m**9**9**9`` would hold the interpreter for
+    good. Raises :class:`InputError` naming ``field`` when the spelling is too
+    long, outside the grammar, unknown, or too large a power or size.
+
+    >>> parse_unit("m**9**9**9", "to")
+    Traceback (most recent call last):
+    ...
+    calc.errors.InputError: to: 'm**9**9**9' is not a unit inkfilm understands: powers above 4 are not ...
+    >>> parse_unit("in2**2", "to")
+    Traceback (most recent call last):
+    ...
+    calc.errors.InputError: to: 'in2**2' is not a unit inkfilm understands: use one power per unit, ...
     """
     if not isinstance(text, str) or not text.strip():
         raise InputError(field, "needs a unit, such as BCM/in2, cm3/m2 or um")
     text = text.strip()
-    if len(text) > 40:
+    if len(text) > MAX_UNIT_CHARS:
         raise InputError(field, "that unit is too long to be a unit")
-    try:
-        return _parse_unit_cached(text)
-    except pint.UndefinedUnitError as exc:
-        unknown = ", ".join(f"'{_spelling_in(text, name)}'" for name in exc.unit_names)
-        raise InputError(field, f"unit {unknown} is not understood (in '{text}')") from None
-    except Exception:  # pint's parser raises many kinds on garbled text
-        raise InputError(field, f"'{text}' is not a unit inkfilm understands") from None
+    normalised = _normalise(text)
+    stray = _stray_character(normalised)
+    if stray is not None:
+        raise InputError(field, f"{stray}; a unit is spelled like BCM/in2, cm3/m2 or um")
+    problem = _grammar_problem(normalised)
+    if problem is not None:
+        raise InputError(field, f"'{text}' is not a unit inkfilm understands: {problem}")
+    unit = _read_unit(text, normalised)
+    if isinstance(unit, str):
+        raise InputError(field, unit)
+    return unit
 
 
 def _spelling_in(text: str, name: str) -> str:
@@ -117,10 +282,13 @@ def _spelling_in(text: str, name: str) -> str:
 
 
 def check_number(value, field: str | None, *, allow_negative: bool = False) -> float:
-    """A finite, sane plain number, else :class:`InputError`."""
+    """A finite, sane plain number, else :class:`InputError` (also for an int too large for a float)."""
     if isinstance(value, bool) or not isinstance(value, int | float):
         raise InputError(field, "must be a number")
-    value = float(value)
+    try:
+        value = float(value)
+    except OverflowError:  # a JSON integer of hundreds of digits
+        raise InputError(field, "is far too large to be a real value") from None
     if not math.isfinite(value):
         raise InputError(field, "must be a finite number")
     if abs(value) > MAX_MAGNITUDE:
@@ -145,7 +313,7 @@ def parse_quantity(text, field: str | None = "quantity", *, allow_negative: bool
     Raises :class:`InputError` naming ``field`` for anything else.
     """
     if isinstance(text, pint.Quantity):
-        check_number(text.magnitude, field, allow_negative=allow_negative)
+        _check_magnitude(text.magnitude, field, allow_negative)
         return text
     if not isinstance(text, str):
         raise InputError(field, "must be a text like '3.5 BCM/in2' (a number, then a unit)")
@@ -157,8 +325,16 @@ def parse_quantity(text, field: str | None = "quantity", *, allow_negative: bool
     number_text, unit_text = match.groups()
     if not unit_text:
         raise InputError(field, f"'{text.strip()}' has no unit; add one, e.g. '{number_text} BCM/in2'")
-    value = check_number(float(number_text), field, allow_negative=allow_negative)
+    value = _check_magnitude(float(number_text), field, allow_negative)
     return Q_(value, parse_unit(unit_text, field))
+
+
+def _check_magnitude(value, field: str | None, allow_negative: bool) -> float:
+    """A quantity's number: as :func:`check_number`, and not too close to zero unless zero."""
+    value = check_number(value, field, allow_negative=allow_negative)
+    if 0.0 < abs(value) < MIN_MAGNITUDE:
+        raise InputError(field, "is too small to be a real value (type 0, or use a smaller unit)")
+    return value
 
 
 def require_dimension(quantity, dimensionality, field: str | None, what: str, examples: str):
@@ -186,10 +362,18 @@ def check_range(quantity, low, high, field: str | None, what: str, *, low_inclus
     return quantity
 
 
-def _to(quantity, unit):
-    value = quantity.to(unit).magnitude
+def _to(make, unit, field: str | None):
+    """``make()`` in ``unit``; an overflow or a result beyond a float is an :class:`InputError` naming ``field``.
+
+    The unit grammar keeps both sides of a conversion within 10**±100 base
+    units, so this is the last line, not the first.
+    """
+    try:
+        value = float(make().to(unit).magnitude)
+    except (OverflowError, ZeroDivisionError):
+        value = math.inf
     if not math.isfinite(value):
-        raise InputError("quantity", "the result is too large to state")
+        raise InputError(field, "the result is too large to state")
     return Q_(value, unit)
 
 
@@ -227,12 +411,12 @@ def convert(quantity, to, density=None, *, field="quantity", to_field="to", dens
     source_dim = quantity.dimensionality
     target_dim = target.dimensionality
     if source_dim == target_dim:
-        return _to(quantity, target)
+        return _to(lambda: quantity, target, field)
 
     if {source_dim, target_dim} == {MILEAGE, COAT_WEIGHT}:
         if quantity.magnitude == 0:
             raise InputError(field, "must be more than 0 to turn into its reciprocal")
-        return _to(1 / quantity, target)
+        return _to(lambda: 1 / quantity, target, field)
 
     pair = (source_dim, target_dim)
     needs_density = {
@@ -257,13 +441,13 @@ def convert(quantity, to, density=None, *, field="quantity", to_field="to", dens
         )
     density = parse_density(density, density_field)
     if pair in {(LENGTH, COAT_WEIGHT), (VOLUME, MASS)}:
-        return _to(quantity * density, target)
+        return _to(lambda: quantity * density, target, field)
     if pair in {(COAT_WEIGHT, LENGTH), (MASS, VOLUME)}:
-        return _to(quantity / density, target)
+        return _to(lambda: quantity / density, target, field)
     if quantity.magnitude == 0:
         raise InputError(field, "must be more than 0 to turn into its reciprocal")
     # mileage ↔ film: both directions are the reciprocal of (value × density)
-    return _to(1 / (quantity * density), target)
+    return _to(lambda: 1 / (quantity * density), target, field)
 
 
 # Inks run from about 0.9 to 1.1 g/cm³, opaque whites about 1.3 and metallics

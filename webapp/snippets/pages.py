@@ -100,6 +100,7 @@ def _new_form(kind, inputs, meta, *, errors=None, status=200):
 def _inputs_from_form():
     try:
         inputs = json.loads(request.form.get("inputs", ""))
+        json.dumps(inputs, ensure_ascii=False).encode()  # a lone surrogate (\ud800) can be neither shown nor kept
     except ValueError:
         inputs = None
     return inputs
