@@ -3,7 +3,9 @@ live waitress server for browser tests and benchmarks."""
 
 from __future__ import annotations
 
+import contextlib
 import os
+import re
 import socket
 import subprocess
 import sys
@@ -98,16 +100,52 @@ def drain(process) -> threading.Thread:
     return thread
 
 
+def stop(process, reader: threading.Thread | None = None, timeout: float = 10.0) -> None:
+    """Stop a server started by ``start_server`` (SIGTERM, then SIGKILL if it lingers)."""
+    if process.poll() is None:
+        process.terminate()
+        try:
+            process.wait(timeout=timeout)
+        except subprocess.TimeoutExpired:
+            process.kill()
+            process.wait(timeout=timeout)
+    if reader is not None:
+        reader.join(timeout=5)
+    if process.stdout is not None:
+        process.stdout.close()
+
+
+@contextlib.contextmanager
+def serving(data_dir: Path, *extra: str, env: dict | None = None, timeout: float = 10.0):
+    """A real server for the block: ``(process, base URL)``; its output drained, stopped at the end."""
+    process, base = start_server(data_dir, *extra, env=env)
+    reader = drain(process)
+    try:
+        yield process, base
+    finally:
+        stop(process, reader, timeout)
+
+
 @pytest.fixture(scope="session")
 def live_server(tmp_path_factory):
     """A real waitress server, as the README starts it, for browser tests."""
-    process, base = start_server(tmp_path_factory.mktemp("live-data"))
-    reader = drain(process)
-    yield base
-    process.terminate()
-    process.wait(timeout=10)
-    reader.join(timeout=5)
-    process.stdout.close()
+    with serving(tmp_path_factory.mktemp("live-data")) as (_process, base):
+        yield base
+
+
+CSRF_INPUT = re.compile(r'name="csrf_token" value="([^"]+)"')
+
+
+def csrf_from(client) -> str:
+    """The CSRF token of ``client``'s session, as a page's form carries it."""
+    page = client.get("/settings").get_data(as_text=True)
+    return CSRF_INPUT.search(page).group(1)
+
+
+@pytest.fixture
+def csrf_token(client) -> str:
+    """The CSRF token of the ``client`` fixture's session."""
+    return csrf_from(client)
 
 
 @pytest.fixture(scope="session")

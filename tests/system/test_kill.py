@@ -21,6 +21,7 @@ import pytest
 
 from tests.bodies import FILM
 from tests.conftest import SCREENSHOTS, drain, start_server
+from tests.conftest import stop as stop_server
 from webapp.common import db
 
 pytestmark = pytest.mark.slow
@@ -106,10 +107,7 @@ def test_every_acknowledged_save_survives_sigkill(tmp_path, capsys):
             with urllib_open(base, f"/api/v1/snippets/{snippet_id}") as snippet:
                 assert snippet["title"] == title
     finally:
-        process.terminate()
-        process.wait(timeout=10)
-        reader.join(timeout=5)
-        process.stdout.close()
+        stop_server(process, reader)
 
     assert len(acknowledged) > KILLS * CLIENTS, "the clients hardly saved anything; the test proves little"
     figures = (

@@ -5,7 +5,7 @@ import urllib.request
 
 import pytest
 
-from tests.conftest import start_server
+from tests.conftest import serving
 from webapp.cli import build_parser
 
 
@@ -16,8 +16,7 @@ def test_serve_defaults():
 
 def test_waitress_serves_the_api_and_creates_the_data_dir(tmp_path):
     data_dir = tmp_path / "fresh" / "data"
-    process, base = start_server(data_dir)
-    try:
+    with serving(data_dir) as (_process, base):
         request = urllib.request.Request(
             base + "/api/v1/convert",
             data=json.dumps({"quantity": "0.6 mil", "to": "um"}).encode(),
@@ -27,7 +26,3 @@ def test_waitress_serves_the_api_and_creates_the_data_dir(tmp_path):
             assert response.headers["Server"] == "inkfilm"  # waitress, not the development server
             assert json.load(response)["result"]["value"] == pytest.approx(15.24, rel=1e-12)
         assert data_dir.is_dir()
-    finally:
-        process.terminate()
-        process.wait(timeout=10)
-        process.stdout.close()

@@ -11,7 +11,7 @@ import threading
 import urllib.request
 from pathlib import Path
 
-from tests.conftest import ROOT, start_server
+from tests.conftest import ROOT, start_server, stop
 from webapp import cli
 from webapp.calculators import CALCULATIONS
 from webapp.common import db
@@ -27,12 +27,6 @@ def post_json(url: str, body: dict):
     request = urllib.request.Request(url, json.dumps(body).encode(), {"Content-Type": "application/json"})
     with urllib.request.urlopen(request, timeout=10) as response:
         return json.load(response)
-
-
-def stop(process):
-    process.terminate()
-    process.wait(timeout=10)
-    process.stdout.close()
 
 
 def test_the_demo_shop_fills_a_separate_folder_once(tmp_path):
