@@ -138,7 +138,7 @@ CSRF_INPUT = re.compile(r'name="csrf_token" value="([^"]+)"')
 
 def csrf_from(client) -> str:
     """The CSRF token of ``client``'s session, as a page's form carries it."""
-    page = client.get("/settings").get_data(as_text=True)
+    page = client.get("/snippets/import").get_data(as_text=True)
     return CSRF_INPUT.search(page).group(1)
 
 

@@ -4,7 +4,6 @@ from __future__ import annotations
 
 import json
 import os
-import re
 import stat
 import urllib.error
 import urllib.request
@@ -12,7 +11,7 @@ import urllib.request
 import pytest
 
 from tests.bodies import FILM
-from tests.conftest import start_server
+from tests.conftest import csrf_from, start_server
 from webapp import create_app
 from webapp.auth import passcodes as auth
 
@@ -44,9 +43,7 @@ def body(title="Station 3"):
 
 
 def token(client) -> str:
-    """This client's CSRF token, as a page would carry it."""
-    page = client.get("/snippets/import").get_data(as_text=True)
-    return re.search(r'name="csrf_token" value="([^"]+)"', page).group(1)
+    return csrf_from(client)
 
 
 def unlock(client, passcode):

@@ -14,6 +14,7 @@ import re
 
 import pytest
 
+from tests.conftest import csrf_from
 from tests.timelimit import run_within
 
 LIMIT_S = 5.0
@@ -270,8 +271,7 @@ def test_the_page_forms_as_sent_give_results(client):
 
 
 def csrf(client) -> str:
-    page = client.get("/snippets/import").get_data(as_text=True)
-    return re.search(r'name="csrf_token" value="([^"]+)"', page).group(1)
+    return csrf_from(client)
 
 
 @pytest.mark.parametrize("address", ["/snippets/new", "/snippets"])

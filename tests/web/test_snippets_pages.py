@@ -11,14 +11,14 @@ import re
 import pytest
 
 from tests.bodies import FILM
+from tests.conftest import csrf_from
 from webapp import create_app
 from webapp.calculators import CALCULATIONS
 from webapp.common import db
 
 
 def csrf(client) -> str:
-    page = client.get("/snippets/import").get_data(as_text=True)
-    return re.search(r'name="csrf_token" value="([^"]+)"', page).group(1)
+    return csrf_from(client)
 
 
 def save(client, title="Film for station 3", **fields):
