@@ -69,6 +69,8 @@ def build_parser() -> argparse.ArgumentParser:
         metavar="PASSCODE",
         help="passcode for deleting, the bin and import (or set INKFILM_SUPERVISOR_PASSCODE)",
     )
+    # The supervisor runs the server itself as a child with this flag (see webapp.watchdog).
+    serve.add_argument("--worker", action="store_true", help=argparse.SUPPRESS)
     serve.set_defaults(handler=serve_command)
 
     backup = commands.add_parser("backup", help="copy the database consistently to PATH, also while the server runs")
@@ -81,9 +83,17 @@ def build_parser() -> argparse.ArgumentParser:
 
 
 def serve_command(args) -> int:
+    if not args.worker:
+        from webapp import watchdog
+
+        return watchdog.supervise([sys.executable, "-m", "webapp.cli", *args.argv, "--worker"])
+    return serve_worker(args)
+
+
+def serve_worker(args) -> int:
     import waitress
 
-    from webapp import create_app
+    from webapp import create_app, watchdog
     from webapp.common.db import NewerDatabaseError
 
     # The demo shop never fills the real data folder.
@@ -125,6 +135,7 @@ def serve_command(args) -> int:
         added = demo.fill(data_dir)
         if added:
             print(f"inkfilm: filled {data_dir} with {added} snippets of the demo shop", flush=True)
+    watchdog.start()
     try:
         app = create_app(config)
     except NewerDatabaseError as exc:
@@ -156,7 +167,9 @@ def backup_command(args) -> int:
 
 
 def main(argv: list[str] | None = None) -> int:
+    argv = sys.argv[1:] if argv is None else list(argv)
     args = build_parser().parse_args(argv)
+    args.argv = argv
     return args.handler(args)
 
 
