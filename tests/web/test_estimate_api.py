@@ -111,7 +111,11 @@ def test_a_labels_job_against_hand_arithmetic(client):
     assert spot["price_per_kg"] == pytest.approx(10.0, rel=1e-12)
     assert spot["pull_mass"] == q(1.162, "kg")
     assert spot["enough"] is False and spot["short_by"] == q(0.062, "kg")
-    assert spot["on_hand_prints"] == {"run_length": q((0.1 / 6e-5 - 100) / 1.04, "m"), "impressions": 6025, "labels": 36150}
+    assert spot["on_hand_prints"] == {
+        "run_length": q((0.1 / 6e-5 - 100) / 1.04, "m"),
+        "impressions": 6025,
+        "labels": 36150,
+    }
     # a varnish station that lays no ink and has no fill: the ink on hand sets no limit
     assert varnish["ink_mass"]["value"] == 0.0 and varnish["enough"] is True and "on_hand_prints" not in varnish
     assert varnish["mileage"] == q(1000 / 1.8, "m2/kg")  # mileage is per mass of ink laid, coverage aside
