@@ -213,16 +213,20 @@ def test_labels_typed_with_impressions_chosen_are_ignored_and_impressions_need_n
 
 
 def test_a_long_job_folds_filled_stations_to_one_line(client):
-    form = labels_form(station_count="5")
-    for index in (3, 4):
+    form = labels_form(station_count="7")
+    for index in (3, 4, 5, 6):
         form |= station(index, f"Spot {index}", "4", "10", "25", "1.0", "", "kg", "", "l", "", "kg")
     form["stations[3].coverage"] = ""  # not filled in: stays open
     page = text(client.post("/estimate", data=form))
     folds = re.findall(r'<details class="station-fold no-print"( open)?>', page)
-    assert folds == ["", "", "", " open", " open"]
+    assert folds == ["", "", "", " open", "", "", " open"]
     assert re.search(r'<summary class="station-summary"><span class="station-summary-name">1\. Cyan</span>', page)
     with_all = text(client.post("/estimate", data=form | {"stations[3].coverage": "10", "action": "add"}))
-    assert re.findall(r'<details class="station-fold no-print"( open)?>', with_all) == [""] * 5 + [" open"]
+    assert re.findall(r'<details class="station-fold no-print"( open)?>', with_all) == [""] * 7 + [" open"]
+    five = {k: v for k, v in form.items() if not k.startswith(("stations[5]", "stations[6]"))} | {"station_count": "5"}
+    assert " open" * 5 in "".join(
+        re.findall(r'<details class="station-fold no-print"( open)?>', text(client.post("/estimate", data=five)))
+    )
 
 
 def test_the_bar_chart_is_sorted_labelled_and_styled_by_class(client):

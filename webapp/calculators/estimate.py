@@ -141,6 +141,16 @@ def _verdict(station, job, system: str) -> str | None:
     return f"{text}: prints about {good} of the {whole} run"
 
 
+def _per_1000(station, job, system: str) -> tuple | None:
+    """(ink, cost) per 1,000 labels, or else per 1,000 impressions, where the count is known."""
+    for count, what in ((job.labels, "labels"), (job.impressions, "impressions")):
+        if count:
+            ink = getattr(station, f"ink_per_1000_{what}")
+            cost = getattr(station, f"cost_per_1000_{what}")
+            return both(ink, "mass", system)[0], None if cost is None else format_money(cost)
+    return None
+
+
 def present(job, system: str) -> dict:
     stations = []
     for station in job.stations:
@@ -156,15 +166,7 @@ def present(job, system: str) -> dict:
                 "coverage": show_value(station.coverage, system),
                 "mileage": None if station.mileage is None else both(station.mileage, "mileage", system),
                 "cost": None if station.cost is None else format_money(station.cost),
-                "per_1000_labels": None
-                if station.ink_per_1000_labels is None
-                else both(station.ink_per_1000_labels, "mass", system),
-                "cost_per_1000_labels": None
-                if station.cost_per_1000_labels is None
-                else format_money(station.cost_per_1000_labels),
-                "cost_per_1000_impressions": None
-                if station.cost_per_1000_impressions is None
-                else format_money(station.cost_per_1000_impressions),
+                "per_1000": _per_1000(station, job, system),
                 "verdict": _verdict(station, job, system),
                 "enough": station.enough,
                 "steps": steps(station.steps, system),
@@ -194,7 +196,7 @@ def present(job, system: str) -> dict:
         if job.cost_per_1000_impressions is None
         else format_money(job.cost_per_1000_impressions),
         "priced": any(station.cost is not None for station in job.stations),
-        "per_labels": job.labels is not None,
+        "per_1000_of": "labels" if job.labels else "impressions" if job.impressions else None,
         "on_hand": any(station.enough is not None for station in job.stations),
         "steps": steps(job.steps, system),
     }
@@ -554,11 +556,16 @@ def _renames(form: dict) -> dict:
     return renames
 
 
+# From this many stations on, a full form shows the stations already filled in folded (a press's
+# process colours plus a spot or two still fit on a phone's screens; six and more do not).
+FOLD_FROM = 6
+
+
 def _folded(form: dict, errors: dict) -> list[bool]:
     """Which stations show as a one-line summary: in a long job, those filled in without a message
     (the last one stays open, for the station just added)."""
     stations = form["stations"]
-    if len(stations) <= 3:
+    if len(stations) < FOLD_FROM:
         return [False] * len(stations)
     folded = []
     for index, station in enumerate(stations):
