@@ -66,10 +66,11 @@ def test_film_leaves_out_what_the_inputs_do_not_allow(client):
 
 def test_estimate_contract(client):
     answer = post(client, "/api/v1/estimate", ESTIMATE).get_json()
-    assert set(answer) == {"printed_area", "stations", "total_ink_mass", "total_cost"}
+    # the first release's fields (later ones only add; tests/web/test_estimate_api.py checks their values)
+    assert {"printed_area", "stations", "total_ink_mass", "total_cost"} <= set(answer)
     assert answer["printed_area"] == {"value": pytest.approx(3960.0), "unit": "m2"}
     (station,) = answer["stations"]
-    assert set(station) == {"name", "substrate_wet", "ink_mass", "ink_volume", "cost"}
+    assert {"name", "substrate_wet", "ink_mass", "ink_volume", "cost"} <= set(station)
     assert station["name"] == "Cyan"
     assert station["substrate_wet"]["unit"] == "um"
     assert station["ink_mass"]["unit"] == "kg"
