@@ -49,10 +49,16 @@ def _is_quantity(value) -> bool:
 def compare(saved, today, where: str = "") -> list[Change]:
     """Where ``today`` differs from ``saved``: numbers beyond ``RERUN_TOLERANCE`` (relative), anything else exactly.
 
+    A field that only today's answer has is not a difference: a newer core
+    answers more (say, per-1,000 figures) without changing what was saved.
+    A saved field today's answer lacks is one.
+
     >>> compare({"dry": {"value": 1.0, "unit": "um"}}, {"dry": {"value": 1.0 + 1e-12, "unit": "um"}})
     []
     >>> compare({"dry": {"value": 1.0, "unit": "um"}}, {"dry": {"value": 1.1, "unit": "um"}})
     [Change(where='dry', saved={'value': 1.0, 'unit': 'um'}, today={'value': 1.1, 'unit': 'um'})]
+    >>> compare({"dry": 1.0}, {"dry": 1.0, "mileage": 5.0}), compare({"dry": 1.0, "wet": 2.0}, {"dry": 1.0})
+    ([], [Change(where='wet', saved=2.0, today=None)])
     """
     if _is_quantity(saved) and _is_quantity(today):
         if saved["unit"] != today["unit"] or not _same_number(saved["value"], today["value"]):
@@ -60,12 +66,10 @@ def compare(saved, today, where: str = "") -> list[Change]:
         return []
     if isinstance(saved, dict) and isinstance(today, dict):
         changes = []
-        for key in list(saved) + [k for k in today if k not in saved]:
+        for key in saved:
             inner = f"{where}.{key}" if where else str(key)
             if key not in today:
                 changes.append(Change(inner, saved[key], None))
-            elif key not in saved:
-                changes.append(Change(inner, None, today[key]))
             else:
                 changes += compare(saved[key], today[key], inner)
         return changes
