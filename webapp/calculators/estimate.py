@@ -6,22 +6,57 @@ from flask import request
 
 from calc import InputError
 from calc.display import format_money, show_value
-from calc.estimate import MAX_STATIONS, Station, job_ink
-from webapp.calculators.spec import Calculator
+from calc.estimate import (
+    IMPRESSIONS_HIGH,
+    MAX_STATIONS,
+    NAME_MAX,
+    REPEAT_HIGH,
+    RUN_LENGTH_HIGH,
+    WEB_WIDTH_HIGH,
+    Station,
+    job_ink,
+)
+from calc.film import ANILOX_VOLUME_HIGH
+from calc.units import DENSITY_HIGH, DENSITY_LOW
+from webapp.calculators.spec import Answer, Calculator
 from webapp.common.formatting import both, steps
 from webapp.common.forms import choose, field_errors, form_values, parse_number, parse_percent, quantity_text
 from webapp.common.htmx import respond
 from webapp.common.jsonapi import check_fields, quantity_json
 from webapp.common.preference import current_system
 
-STATION_REQUIRED = {"name", "anilox_volume", "coverage", "transfer", "ink_density"}
-STATION_OPTIONAL = {"price_per_kg"}
+REQUIRED = {"web_width": "quantity", "stations": "list"}
+OPTIONAL = {"run_length": "quantity", "impressions": "integer", "repeat": "quantity", "waste": "share"}
+STATION_REQUIRED = {
+    "name": "text",
+    "anilox_volume": "quantity",
+    "coverage": "share",
+    "transfer": "share",
+    "ink_density": "quantity",
+}
+STATION_OPTIONAL = {"price_per_kg": "number"}
+LIMITS = {
+    "web_width": {"description": f"printed web width, more than 0 and at most {WEB_WIDTH_HIGH:~P}"},
+    "run_length": {
+        "description": f"good run length, more than 0 and at most {RUN_LENGTH_HIGH:~P}; or give impressions"
+    },
+    "impressions": {"minimum": 1, "maximum": IMPRESSIONS_HIGH, "description": "impressions; with the repeat"},
+    "repeat": {"description": f"repeat length, more than 0 and at most {REPEAT_HIGH:~P}; with impressions"},
+    "waste": {"description": "share of the run added for waste"},
+    "stations": {"minItems": 1, "maxItems": MAX_STATIONS},
+    "stations.name": {"minLength": 1, "maxLength": NAME_MAX, "pattern": r"\S"},
+    "stations.anilox_volume": {"description": f"cell volume per area, more than 0 and at most {ANILOX_VOLUME_HIGH:~P}"},
+    "stations.coverage": {"description": "share of the printed area this station inks"},
+    "stations.transfer": {"description": "share of the cell volume that reaches the substrate (about 0.25)"},
+    "stations.ink_density": {"description": f"press-ready ink density, {DENSITY_LOW:~P} to {DENSITY_HIGH:~P}"},
+    "stations.price_per_kg": {"minimum": 0, "maximum": 1e15, "description": "ink price per kg, shop's currency"},
+}
 SHARES = frozenset({"coverage", "transfer", "waste"})
 MONEY = frozenset({"cost", "total_cost", "price_per_kg"})
 
 
 def run(body: dict):
-    body = check_fields(body, {"web_width", "stations"}, {"run_length", "impressions", "repeat", "waste"})
+    body = check_fields(body, REQUIRED, OPTIONAL)
     stations_in = body.pop("stations")
     if not isinstance(stations_in, list) or not 1 <= len(stations_in) <= MAX_STATIONS:
         raise InputError("stations", f"must be a list of 1 to {MAX_STATIONS} stations")
@@ -207,4 +242,21 @@ ESTIMATE = Calculator(
     shares=SHARES,
     money=MONEY,
     main_input="web_width",
+    required=REQUIRED,
+    optional=OPTIONAL,
+    nested={"stations": (STATION_REQUIRED, STATION_OPTIONAL)},
+    limits=LIMITS,
+    answer=Answer(
+        {
+            "printed_area": "quantity",
+            "stations": [
+                Answer(
+                    {"name": "text", "substrate_wet": "quantity", "ink_mass": "quantity", "ink_volume": "quantity"},
+                    optional={"cost": "number"},
+                )
+            ],
+            "total_ink_mass": "quantity",
+        },
+        optional={"total_cost": "number"},
+    ),
 )

@@ -11,6 +11,8 @@ PATCH) is sent as JSON, else 415. ``GET /api/v1/openapi.json`` describes it all
 
 from __future__ import annotations
 
+from collections.abc import Collection
+
 from flask import Blueprint, jsonify, request
 
 from calc import InputError
@@ -67,7 +69,7 @@ def quantity_json(quantity, unit: str | None = None) -> dict:
     return {"value": float(quantity.magnitude), "unit": spelling}
 
 
-def check_fields(body, required: set[str], optional: set[str] = frozenset(), prefix: str = "") -> dict:
+def check_fields(body, required: Collection[str], optional: Collection[str] = frozenset(), prefix: str = "") -> dict:
     """``body`` checked for missing and unknown fields; optional ``null`` fields count as absent."""
     where = f"{prefix}." if prefix else ""
     if not isinstance(body, dict):
