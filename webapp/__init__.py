@@ -33,7 +33,7 @@ def create_app(test_config: dict | None = None) -> Flask:
     Path(app.config["DATA_DIR"]).mkdir(parents=True, exist_ok=True)
 
     from webapp import auth, calculators, https, shell, snippets
-    from webapp.common import assets, db, formatting, jsonapi, security
+    from webapp.common import assets, db, formatting, jsonapi, openapi, security  # noqa: F401 (openapi: its route)
 
     # Plumbing every page shares.
     security.init_app(app)

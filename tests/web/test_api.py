@@ -26,10 +26,43 @@ def test_convert_with_density(client):
     assert response.get_json() == {"result": {"value": pytest.approx(2.1), "unit": "g/m2"}}
 
 
-def test_convert_accepts_json_without_content_type(client):
-    response = client.post("/api/v1/convert", data='{"quantity": "1 mil", "to": "um"}')
+WRITES = [
+    ("post", "/api/v1/convert"),
+    ("post", "/api/v1/film"),
+    ("post", "/api/v1/estimate"),
+    ("post", "/api/v1/equivalents"),
+    ("post", "/api/v1/snippets"),
+    ("put", "/api/v1/snippets/1"),
+    ("patch", "/api/v1/snippets/1"),
+    ("post", "/api/v1/snippets/1/restore"),
+    ("post", "/api/v1/snippets/import"),
+]
+
+
+@pytest.mark.parametrize(("method", "path"), WRITES)
+@pytest.mark.parametrize(
+    "content_type",
+    [None, "text/plain", "application/x-www-form-urlencoded", "multipart/form-data; boundary=x", "text/json"],
+)
+def test_a_body_not_sent_as_json_is_refused_with_415(client, method, path, content_type):
+    # text/plain, form and multipart posts are "simple" requests any web page can send cross-site.
+    headers = {} if content_type is None else {"Content-Type": content_type}
+    response = getattr(client, method)(path, data='{"quantity": "1 mil", "to": "um"}', headers=headers)
+    assert response.status_code == 415
+    error = response.get_json()["error"]
+    assert error["field"] is None
+    assert "application/json" in error["message"]
+
+
+@pytest.mark.parametrize("content_type", ["application/json", "application/json; charset=utf-8", "application/x+json"])
+def test_json_content_types_are_read(client, content_type):
+    response = client.post("/api/v1/convert", data='{"quantity": "1 mil", "to": "um"}', content_type=content_type)
     assert response.status_code == 200
     assert response.get_json()["result"]["value"] == pytest.approx(25.4)
+
+
+def test_reading_needs_no_content_type(client):
+    assert client.get("/api/v1/snippets").status_code == 200
 
 
 def test_film_answers_the_whole_chain(client):

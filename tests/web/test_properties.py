@@ -10,6 +10,7 @@ from calc import InputError
 from calc.film import film_chain
 from calc.units import convert
 from tests.calc.test_units import GROUPS
+from webapp.calculators import CALCULATORS
 
 positive = st.floats(min_value=1e-6, max_value=1e6, allow_nan=False, allow_infinity=False)
 fraction = st.floats(min_value=0.0, max_value=1.0)
@@ -81,32 +82,16 @@ json_values = st.recursive(
     lambda children: st.lists(children, max_size=4) | st.dictionaries(st.text(max_size=12), children, max_size=5),
     max_leaves=12,
 )
-FIELDS = [
-    "quantity",
-    "to",
-    "density",
-    "anilox_volume",
-    "anilox_to_plate",
-    "plate_to_substrate",
-    "solids_by_volume",
-    "solids_by_weight",
-    "ink_density",
-    "web_width",
-    "run_length",
-    "impressions",
-    "repeat",
-    "waste",
-    "stations",
-    "name",
-    "coverage",
-    "transfer",
-    "price_per_kg",
-]
+# Every request field name of every calculation, from the specs' own field dicts.
+FIELDS = sorted(
+    {name for spec in CALCULATORS for name in {**spec.required, **spec.optional}}
+    | {name for spec in CALCULATORS for required, optional in spec.nested.values() for name in {**required, **optional}}
+)
 bodies = json_values | st.dictionaries(st.sampled_from(FIELDS), json_values, max_size=8)
 
 
 @settings(max_examples=300, suppress_health_check=[HealthCheck.function_scoped_fixture, HealthCheck.too_slow])
-@given(path=st.sampled_from(["/api/v1/convert", "/api/v1/film", "/api/v1/estimate"]), body=bodies)
+@given(path=st.sampled_from([f"/api/v1/{spec.kind}" for spec in CALCULATORS]), body=bodies)
 def test_api_never_answers_5xx(client, path, body):
     response = client.post(path, data=json.dumps(body), content_type="application/json")
     assert response.status_code < 500

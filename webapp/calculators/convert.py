@@ -6,8 +6,8 @@ from __future__ import annotations
 from calc import InputError
 from calc.display import in_order, show
 from calc.equivalents import equivalents
-from calc.units import convert
-from webapp.calculators.spec import Calculator
+from calc.units import MAX_UNIT_CHARS, convert
+from webapp.calculators.spec import Answer, Calculator
 from webapp.common.formatting import steps
 from webapp.common.forms import choose, field_errors, form_values, parse_number, parse_percent, quantity_text
 from webapp.common.htmx import respond
@@ -17,21 +17,46 @@ from webapp.common.preference import current_system
 # --- convert: one value to one unit (API) -----------------------------------------
 
 
+CONVERT_REQUIRED = {"quantity": "quantity", "to": "text"}
+CONVERT_OPTIONAL = {"density": "quantity"}
+
+
 def compute_convert(body: dict) -> dict:
-    body = check_fields(body, {"quantity", "to"}, {"density"})
+    body = check_fields(body, CONVERT_REQUIRED, CONVERT_OPTIONAL)
     if not isinstance(body["to"], str):
         raise InputError("to", "must be a unit spelling such as 'cm3/m2'")
     result = convert(body["quantity"], body["to"], body.get("density"))
     return {"result": {"value": float(result.magnitude), "unit": body["to"].strip()}}
 
 
-CONVERT = Calculator(kind="convert", title="Conversion", compute=compute_convert, main_input="quantity")
+CONVERT = Calculator(
+    kind="convert",
+    title="Conversion",
+    compute=compute_convert,
+    main_input="quantity",
+    required=CONVERT_REQUIRED,
+    optional=CONVERT_OPTIONAL,
+    limits={
+        "quantity": {"description": "the value to convert, e.g. '3.5 BCM/in2'"},
+        "to": {
+            "minLength": 1,
+            "maxLength": MAX_UNIT_CHARS,
+            "description": "the unit to convert to, e.g. 'cm3/m2'; the answer's unit is spelt as sent",
+        },
+        "density": {"description": "the ink's density (0.3 to 5 g/cm3), where the conversion needs one"},
+    },
+    answer=Answer({"result": "quantity"}),
+)
 
 # --- equivalents: the quick converters ---------------------------------------------
 
 
+EQUIVALENTS_REQUIRED = {"quantity": "quantity"}
+EQUIVALENTS_OPTIONAL = {"density": "quantity", "coverage": "share"}
+
+
 def run_equivalents(body: dict):
-    body = check_fields(body, {"quantity"}, {"density", "coverage"})
+    body = check_fields(body, EQUIVALENTS_REQUIRED, EQUIVALENTS_OPTIONAL)
     return equivalents(body["quantity"], body.get("density"), body.get("coverage"))
 
 
@@ -114,4 +139,17 @@ EQUIVALENTS = Calculator(
     nav="Convert",
     shares=frozenset({"coverage"}),
     main_input="quantity",
+    required=EQUIVALENTS_REQUIRED,
+    optional=EQUIVALENTS_OPTIONAL,
+    limits={
+        "quantity": {"description": "the value to show in every useful unit, more than 0, e.g. '4.5 BCM/in2'"},
+        "density": {"description": "the ink's density (0.3 to 5 g/cm3): adds coat weights and masses"},
+        "coverage": {"description": "share of the area inked: adds ink per printed area"},
+    },
+    answer=Answer(
+        {
+            "kind": "text",
+            "groups": [Answer({"key": "text", "title": "text", "note": "text or null", "values": ["quantity"]})],
+        }
+    ),
 )

@@ -16,8 +16,19 @@ from flask import Response, request
 
 from calc import InputError
 from calc.display import format_money, format_number, show_value
-from calc.estimate import MAX_STATIONS, Station, job_ink
-from webapp.calculators.spec import Calculator
+from calc.estimate import (
+    IMPRESSIONS_HIGH,
+    MAX_STATIONS,
+    NAME_MAX,
+    REPEAT_HIGH,
+    RUN_LENGTH_HIGH,
+    WEB_WIDTH_HIGH,
+    Station,
+    job_ink,
+)
+from calc.film import ANILOX_VOLUME_HIGH
+from calc.units import DENSITY_HIGH, DENSITY_LOW
+from webapp.calculators.spec import Answer, Calculator
 from webapp.common.formatting import both, steps
 from webapp.common.forms import choose, field_errors, form_values, parse_number, parse_percent, quantity_text
 from webapp.common.htmx import is_htmx, respond
@@ -46,6 +57,30 @@ STATION_OPTIONAL = {
     "price_per_lb": "number",
     "fill": "quantity",
     "on_hand": "quantity",
+}
+LIMITS = {
+    "web_width": {"description": f"printed web width, more than 0 and at most {WEB_WIDTH_HIGH:~P}"},
+    "run_length": {
+        "description": f"good run length, more than 0 and at most {RUN_LENGTH_HIGH:~P}; or give impressions"
+    },
+    "impressions": {"minimum": 1, "maximum": IMPRESSIONS_HIGH, "description": "impressions; with the repeat"},
+    "repeat": {"description": f"repeat length, more than 0 and at most {REPEAT_HIGH:~P}; with impressions"},
+    "waste": {"description": "share of the run added for waste"},
+    "stations": {"minItems": 1, "maxItems": MAX_STATIONS},
+    "stations.name": {"minLength": 1, "maxLength": NAME_MAX, "pattern": r"\S"},
+    "stations.anilox_volume": {"description": f"cell volume per area, more than 0 and at most {ANILOX_VOLUME_HIGH:~P}"},
+    "stations.coverage": {"description": "share of the printed area this station inks"},
+    "stations.transfer": {"description": "share of the cell volume that reaches the substrate (about 0.25)"},
+    "stations.ink_density": {"description": f"press-ready ink density, {DENSITY_LOW:~P} to {DENSITY_HIGH:~P}"},
+    "stations.price_per_kg": {"minimum": 0, "maximum": 1e15, "description": "ink price per kg, shop's currency"},
+    "stations.price_per_lb": {"minimum": 0, "maximum": 1e15, "description": "ink price per lb (instead of per kg)"},
+    "stations.inked_area_per_label": {"description": "inked area of one label (instead of coverage)"},
+    "stations.fill": {"description": "ink held by chamber or pan, pump and hoses: a volume or a mass"},
+    "stations.on_hand": {"description": "ink on hand for this station: a volume or a mass"},
+    "labels": {"minimum": 1, "description": "labels to print; with repeat, across and around"},
+    "across": {"minimum": 1, "description": "labels across the web"},
+    "around": {"minimum": 1, "description": "labels around the repeat"},
+    "makeready": {"description": "web run for make-ready, a length (default 0)"},
 }
 SHARES = frozenset({"coverage", "transfer", "waste"})
 MONEY = frozenset(
@@ -624,4 +659,52 @@ ESTIMATE = Calculator(
     shares=SHARES,
     money=MONEY,
     main_input="web_width",
+    required=REQUIRED,
+    optional=OPTIONAL,
+    nested={"stations": (STATION_REQUIRED, STATION_OPTIONAL)},
+    limits=LIMITS,
+    answer=Answer(
+        {
+            "printed_area": "quantity",
+            "stations": [
+                Answer(
+                    {
+                        "name": "text",
+                        "substrate_wet": "quantity",
+                        "ink_mass": "quantity",
+                        "ink_volume": "quantity",
+                        "coverage": "number",
+                        "pull_mass": "quantity",
+                    },
+                    optional={
+                        "cost": "number",
+                        "mileage": "quantity",
+                        "price_per_kg": "number",
+                        "ink_per_1000_impressions": "quantity",
+                        "ink_per_1000_labels": "quantity",
+                        "cost_per_1000_impressions": "number",
+                        "cost_per_1000_labels": "number",
+                        "on_hand_mass": "quantity",
+                        "on_hand_prints": Answer(
+                            {"run_length": "quantity"}, optional={"impressions": "integer", "labels": "integer"}
+                        ),
+                        "enough": "boolean",
+                        "short_by": "quantity",
+                    },
+                )
+            ],
+            "total_ink_mass": "quantity",
+            "run_length": "quantity",
+            "printed_length": "quantity",
+            "total_ink_volume": "quantity",
+            "total_pull_mass": "quantity",
+        },
+        optional={
+            "total_cost": "number",
+            "impressions": "integer",
+            "labels": "integer",
+            "cost_per_1000_impressions": "number",
+            "cost_per_1000_labels": "number",
+        },
+    ),
 )

@@ -6,9 +6,9 @@ from dataclasses import dataclass
 
 from calc import InputError
 from calc.display import Shown, format_percent, role_units, show
-from calc.film import TYPICAL_ANILOX_TO_PLATE, TYPICAL_PLATE_TO_SUBSTRATE, film_chain
-from calc.units import Q_  # noqa: F401 (Q_ for the doctests)
-from webapp.calculators.spec import Calculator
+from calc.film import ANILOX_VOLUME_HIGH, TYPICAL_ANILOX_TO_PLATE, TYPICAL_PLATE_TO_SUBSTRATE, film_chain
+from calc.units import DENSITY_HIGH, DENSITY_LOW, Q_  # noqa: F401 (Q_ for the doctests)
+from webapp.calculators.spec import Answer, Calculator
 from webapp.common.formatting import both, steps
 from webapp.common.forms import choose, field_errors, form_values, parse_number, parse_percent, quantity_text
 from webapp.common.htmx import respond
@@ -18,12 +18,20 @@ from webapp.common.preference import current_system
 SHARES = frozenset({"anilox_to_plate", "plate_to_substrate", "solids_by_volume", "solids_by_weight"})
 
 
+REQUIRED = {"anilox_volume": "quantity", "anilox_to_plate": "share", "plate_to_substrate": "share"}
+OPTIONAL = {"solids_by_volume": "share", "solids_by_weight": "share", "ink_density": "quantity"}
+LIMITS = {
+    "anilox_volume": {"description": f"cell volume per area, more than 0 and at most {ANILOX_VOLUME_HIGH:~P}"},
+    "anilox_to_plate": {"description": "share of the cell volume the plate picks up (about 0.5)"},
+    "plate_to_substrate": {"description": "share of the plate's ink given to the substrate (about 0.5)"},
+    "solids_by_volume": {"description": "share of the ink's volume left after drying: adds the dry film"},
+    "solids_by_weight": {"description": "share of the ink's mass left after drying: needs ink_density"},
+    "ink_density": {"description": f"press-ready ink density, {DENSITY_LOW:~P} to {DENSITY_HIGH:~P}"},
+}
+
+
 def run(body: dict):
-    body = check_fields(
-        body,
-        {"anilox_volume", "anilox_to_plate", "plate_to_substrate"},
-        {"solids_by_volume", "solids_by_weight", "ink_density"},
-    )
+    body = check_fields(body, REQUIRED, OPTIONAL)
     return film_chain(**body)
 
 
@@ -173,4 +181,11 @@ FILM = Calculator(
     nav="Film chain",
     shares=SHARES,
     main_input="anilox_volume",
+    required=REQUIRED,
+    optional=OPTIONAL,
+    limits=LIMITS,
+    answer=Answer(
+        dict.fromkeys(("theoretical_wet", "plate_wet", "substrate_wet"), "quantity"),
+        optional=dict.fromkeys(("dry", "wet_coat_weight", "dry_coat_weight"), "quantity"),
+    ),
 )

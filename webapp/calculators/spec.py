@@ -7,8 +7,27 @@ the snippet kind names and which saved fields are shares or money.
 
 from __future__ import annotations
 
-from collections.abc import Callable
+from collections.abc import Callable, Mapping
 from dataclasses import dataclass, field
+
+# A request field's kind (the field convention): "quantity" (text "<number> <unit>"),
+# "share" (a number from 0 to 1), "number", "integer", "text", "boolean"; and "list"
+# for a list of objects whose fields ``Calculator.nested`` gives.
+KINDS = frozenset({"quantity", "share", "number", "integer", "text", "boolean", "list"})
+
+
+@dataclass(frozen=True)
+class Answer:
+    """The shape of an answer, for the OpenAPI description (``webapp.common.openapi``).
+
+    ``fields`` are always there, ``optional`` ones where the inputs allow. A
+    field's kind is an answer kind (``"quantity"`` for ``{"value", "unit"}``,
+    ``"number"``, ``"integer"``, ``"text"``, ``"text or null"``, ``"boolean"``),
+    an ``Answer`` (an object) or a one-item list ``[kind]`` (a list of them).
+    """
+
+    fields: Mapping[str, object]
+    optional: Mapping[str, object] = field(default_factory=dict)
 
 
 @dataclass(frozen=True)
@@ -24,6 +43,15 @@ class Calculator:
     - ``shares``: input and answer fields that are shares from 0 to 1 (shown as %).
     - ``money``: fields that are amounts of money (shown to the cent).
     - ``main_input``: the input a saved snippet's default title names.
+    - ``required``, ``optional``: the request's fields, name → kind (see ``KINDS``),
+      the very dicts ``compute`` passes to ``check_fields``; ``nested``: for a
+      ``"list"`` field, its items' ``(required, optional)`` dicts.
+    - ``limits``: per field (``"stations"``, ``"stations.name"``), the bounds the
+      code enforces as JSON Schema keywords (``maximum``, ``maxItems``,
+      ``description`` for a quantity's range…).
+    - ``answer``: the shape of a 200 answer.
+
+    The request fields, limits and answer are what ``/api/v1/openapi.json`` is made of.
     """
 
     kind: str
@@ -35,3 +63,8 @@ class Calculator:
     shares: frozenset[str] = field(default_factory=frozenset)
     money: frozenset[str] = field(default_factory=frozenset)
     main_input: str | None = None
+    required: Mapping[str, str] = field(default_factory=dict)
+    optional: Mapping[str, str] = field(default_factory=dict)
+    nested: Mapping[str, tuple[Mapping[str, str], Mapping[str, str]]] = field(default_factory=dict)
+    limits: Mapping[str, Mapping] = field(default_factory=dict)
+    answer: Answer | None = None

@@ -4,10 +4,14 @@ Each feature's API is a child of ``api`` (Flask's nested blueprints), so the
 body limit, the error handlers and the error shape are written once:
 ``{"error": {"field", "message"}}`` for every 4xx. Requests give quantities
 as strings ``"<number> <unit>"`` and shares as plain numbers from 0 to 1;
-answers give quantities as ``{"value", "unit"}``.
+answers give quantities as ``{"value", "unit"}``. Every write (POST, PUT,
+PATCH) is sent as JSON, else 415. ``GET /api/v1/openapi.json`` describes it all
+(``webapp.common.openapi``).
 """
 
 from __future__ import annotations
+
+from collections.abc import Collection
 
 from flask import Blueprint, jsonify, request
 
@@ -39,6 +43,18 @@ def web_error(exc: WebError):
     return response
 
 
+WRITING = frozenset({"POST", "PUT", "PATCH"})
+NOT_JSON = "send the body as JSON (Content-Type: application/json)"
+
+
+@api.before_request
+def json_only():
+    """A write must say it is JSON: a text/plain or form post (which any web page may send to
+    another site without asking first) never reaches a calculation or a snippet."""
+    if request.method in WRITING and not request.is_json:  # application/json or application/…+json
+        raise WebError(None, NOT_JSON, 415)
+
+
 @api.before_request
 def limit_body():
     # Flask reads this per request; a child's own before_request may raise it.
@@ -53,7 +69,7 @@ def quantity_json(quantity, unit: str | None = None) -> dict:
     return {"value": float(quantity.magnitude), "unit": spelling}
 
 
-def check_fields(body, required: set[str], optional: set[str] = frozenset(), prefix: str = "") -> dict:
+def check_fields(body, required: Collection[str], optional: Collection[str] = frozenset(), prefix: str = "") -> dict:
     """``body`` checked for missing and unknown fields; optional ``null`` fields count as absent."""
     where = f"{prefix}." if prefix else ""
     if not isinstance(body, dict):

@@ -84,6 +84,8 @@ def _row_to_snippet(conn, row, tags: list[str] | None = None) -> dict:
 
 def get(conn, snippet_id: int, *, deleted: bool = False) -> dict:
     """The snippet ``snippet_id``; from the bin when ``deleted``."""
+    if not 0 <= snippet_id < 2**63:  # beyond SQLite's integers (sqlite3 would raise OverflowError): no such id
+        raise NotFound(snippet_id)
     row = conn.execute(
         "SELECT * FROM snippet WHERE id = ? AND (deleted_at IS NOT NULL) = ?", (snippet_id, bool(deleted))
     ).fetchone()

@@ -1,0 +1,500 @@
+"""The OpenAPI 3.1 description of ``/api/v1``, served at ``GET /api/v1/openapi.json``.
+
+Made from what the code checks, so that it cannot drift from it:
+
+- a calculation's request fields are its ``Calculator`` spec's ``required``,
+  ``optional`` and ``nested`` dicts (the ones its ``compute`` passes to
+  ``check_fields``), with the ``limits`` it enforces; its 200 answer is the
+  spec's ``answer``;
+- the snippets endpoints' fields are ``webapp.snippets.api``'s field
+  constants, with the lengths of ``webapp.snippets.rules``.
+
+Every 4xx answer has the one error shape of ``webapp.common.jsonapi``
+(``{"error": {"field", "message"}}``); a stale edit's 409 adds ``current``.
+"""
+
+from __future__ import annotations
+
+from functools import cache
+
+from flask import Blueprint, jsonify
+
+from calc.units import MAX_MAGNITUDE, MAX_UNIT_CHARS
+from webapp.auth.csrf import CSRF_HEADER
+from webapp.auth.gate import PASSCODE_HEADER
+from webapp.calculators import CALCULATORS
+from webapp.calculators.spec import Answer, Calculator
+from webapp.common.jsonapi import MAX_BODY, api
+from webapp.snippets import api as snippets_api
+from webapp.snippets import rules
+
+# What ``calc.units.parse_quantity`` reads: a number, then a unit (checked by the server, not by this pattern).
+QUANTITY_PATTERN = r"^\s*[+-]?(\d+(\.\d*)?|\.\d+)([eE][+-]?\d+)?\s*\S.*$"
+QUANTITY_CHARS = 80
+
+REQUEST_KINDS = {
+    "quantity": {
+        "type": "string",
+        "pattern": QUANTITY_PATTERN,
+        "maxLength": QUANTITY_CHARS,
+        "examples": ["3.5 BCM/in2"],
+    },
+    "share": {"type": "number", "minimum": 0, "maximum": 1},
+    "number": {"type": "number", "minimum": -MAX_MAGNITUDE, "maximum": MAX_MAGNITUDE},
+    "integer": {"type": "integer"},
+    "text": {"type": "string"},
+    "boolean": {"type": "boolean"},
+}
+QUANTITY_NOTE = (
+    f"A quantity: a number (at most {MAX_MAGNITUDE:g} in size; 0 or at least {1 / MAX_MAGNITUDE:g}), "
+    f"then a unit of at most {MAX_UNIT_CHARS} characters, e.g. '3.5 BCM/in2'."
+)
+ANSWER_KINDS = {
+    "quantity": {"$ref": "#/components/schemas/Quantity"},
+    "number": {"type": "number"},
+    "integer": {"type": "integer"},
+    "text": {"type": "string"},
+    "text or null": {"type": ["string", "null"]},
+    "boolean": {"type": "boolean"},
+}
+ERROR = {"$ref": "#/components/schemas/Error"}
+JSON = "application/json"
+
+
+# --- the pieces -------------------------------------------------------------------------------------
+
+
+def field_schema(kind: str, limits: dict | None = None) -> dict:
+    """One request field of ``kind`` with the bounds the code enforces on it."""
+    schema = dict(REQUEST_KINDS[kind])
+    for key, value in (limits or {}).items():
+        if key == "description" and kind == "quantity":
+            value = f"{value[0].upper()}{value[1:]}. {QUANTITY_NOTE}"
+        schema[key] = value
+    if kind == "quantity" and "description" not in schema:
+        schema["description"] = QUANTITY_NOTE
+    return schema
+
+
+def nullable(schema: dict) -> dict:
+    """An optional field: ``null`` counts as absent (``check_fields``)."""
+    return {"anyOf": [schema, {"type": "null"}]}
+
+
+def request_object(required: dict, optional: dict, *, nested: dict | None = None, limits=None, prefix="") -> dict:
+    """An object of exactly these fields (any other is refused), as ``check_fields`` checks it."""
+    nested, limits = nested or {}, limits or {}
+    properties = {}
+    for name, kind in {**required, **optional}.items():
+        if name in nested:
+            item_required, item_optional = nested[name]
+            item = request_object(item_required, item_optional, limits=limits, prefix=f"{prefix}{name}.")
+            schema = {"type": "array", "items": item, **limits.get(f"{prefix}{name}", {})}
+        else:
+            schema = field_schema(kind, limits.get(f"{prefix}{name}"))
+        properties[name] = schema if name in required else nullable(schema)
+    return {
+        "type": "object",
+        "properties": properties,
+        "required": sorted(required),
+        "additionalProperties": False,
+    }
+
+
+def answer_schema(answer: object) -> dict:
+    """The JSON Schema of an answer kind, an ``Answer`` object or a ``[kind]`` list."""
+    if isinstance(answer, Answer):
+        fields = {**answer.fields, **answer.optional}
+        return {
+            "type": "object",
+            "properties": {name: answer_schema(kind) for name, kind in fields.items()},
+            "required": sorted(answer.fields),
+        }
+    if isinstance(answer, list):
+        (item,) = answer
+        return {"type": "array", "items": answer_schema(item)}
+    return dict(ANSWER_KINDS[answer])
+
+
+def json_body(schema: dict, description: str | None = None) -> dict:
+    content = {"content": {JSON: {"schema": schema}}}
+    return {"description": description or "JSON", **content}
+
+
+def error(description: str) -> dict:
+    return json_body(ERROR, description)
+
+
+REFUSALS = {
+    "400": error("bad input: `field` names the input (`stations[0].coverage`), `message` says what is wrong"),
+    "413": error("the body is too large"),
+    "415": error("the body was not sent as JSON (`Content-Type: application/json`); `field` is null"),
+}
+GATE = {
+    "401": error(f"this needs a passcode: send it in `{PASSCODE_HEADER}`"),
+    "403": error("that passcode is not right, does not open this, or an unlocked browser sent no CSRF token"),
+    "429": {
+        **error("too many wrong passcodes: try again after `Retry-After` seconds"),
+        "headers": {"Retry-After": {"description": "seconds to wait", "schema": {"type": "integer", "minimum": 1}}},
+    },
+}
+NOT_FOUND = {"404": error("there is no such snippet (or it is in the bin)")}
+GATE_HEADERS = [
+    {
+        "name": PASSCODE_HEADER,
+        "in": "header",
+        "required": False,
+        "description": "the shop or supervisor passcode, where passcodes are set",
+        "schema": {"type": "string"},
+    },
+    {
+        "name": CSRF_HEADER,
+        "in": "header",
+        "required": False,
+        "description": "instead of the passcode: the session's CSRF token, from a browser unlocked on /unlock",
+        "schema": {"type": "string"},
+    },
+]
+SNIPPET_ID = {"name": "snippet_id", "in": "path", "required": True, "schema": {"type": "integer", "minimum": 0}}
+
+
+# --- the calculations --------------------------------------------------------------------------------
+
+
+def calculation(spec: Calculator) -> dict:
+    body = request_object(spec.required, spec.optional, nested=spec.nested, limits=spec.limits)
+    answer = answer_schema(spec.answer) if spec.answer is not None else {"type": "object"}
+    return {
+        "post": {
+            "operationId": f"calculate_{spec.kind}",
+            "summary": spec.title,
+            "tags": ["calculations"],
+            "requestBody": {"required": True, "content": {JSON: {"schema": body}}},
+            "responses": {"200": json_body(answer, "the answer, quantities in full precision"), **REFUSALS},
+        }
+    }
+
+
+# --- the snippets ------------------------------------------------------------------------------------
+
+
+def meta_field(name: str) -> dict:
+    """A snippet's title, job number, press, … as ``rules.check_meta`` takes it (null counts as empty)."""
+    if name == "tags":
+        tag = {"type": "string", "maxLength": rules.MAX_TAG}
+        text = {"type": "string", "description": f"tags separated by commas; at most {rules.MAX_TAGS}"}
+        return {"anyOf": [text, {"type": "array", "items": tag, "maxItems": rules.MAX_TAGS}, {"type": "null"}]}
+    return {"type": ["string", "null"], "maxLength": rules.LIMITS[name]}
+
+
+def snippet_create() -> dict:
+    properties = {
+        "kind": {"type": "string", "enum": sorted(spec.kind for spec in CALCULATORS)},
+        "inputs": {"type": "object", "description": "the request body of that calculation"},
+        "title": {"type": "string", "minLength": 1, "pattern": r"\S", "maxLength": rules.LIMITS["title"]},
+    }
+    properties |= {name: meta_field(name) for name in sorted(snippets_api.CREATE_OPTIONAL)}
+    return {
+        "type": "object",
+        "properties": properties,
+        "required": ["inputs", "kind", "title"],
+        "additionalProperties": False,
+    }
+
+
+def snippet_update() -> dict:
+    properties = {
+        "version": {"type": "integer", "minimum": 1, "description": "the version the change was made against"},
+        "rerun": {"type": "boolean", "description": "true: keep today's results of a re-run"},
+    }
+    properties |= {name: meta_field(name) for name in sorted(snippets_api.UPDATE_FIELDS)}
+    if "title" in properties:
+        properties["title"] = {"type": "string", "minLength": 1, "pattern": r"\S", "maxLength": rules.LIMITS["title"]}
+    return {"type": "object", "properties": properties, "required": ["version"], "additionalProperties": False}
+
+
+SNIPPET = {
+    "type": "object",
+    "properties": {
+        "id": {"type": "integer"},
+        "uid": {"type": "string"},
+        "kind": {"type": "string"},
+        "title": {"type": "string"},
+        "job_number": {"type": "string"},
+        "press": {"type": "string"},
+        "station": {"type": "string"},
+        "notes": {"type": "string"},
+        "tags": {"type": "array", "items": {"type": "string"}},
+        "saved_by": {"type": "string"},
+        "inputs": {"type": "object"},
+        "results": {"type": "object"},
+        "created_at": {"type": "string"},
+        "updated_at": {"type": "string"},
+        "version": {"type": "integer", "minimum": 1},
+        "deleted_at": {"type": ["string", "null"]},
+    },
+    "required": ["id", "kind", "title", "inputs", "results", "version"],
+}
+ONE = {"$ref": "#/components/schemas/Snippet"}
+LISTING = {
+    "type": "object",
+    "properties": {
+        "snippets": {"type": "array", "items": ONE},
+        "total": {"type": "integer", "minimum": 0},
+        "limit": {"type": "integer"},
+        "offset": {"type": "integer"},
+    },
+    "required": ["snippets", "total", "limit", "offset"],
+}
+CONFLICT = {
+    "409": json_body(
+        {
+            "type": "object",
+            "properties": {"error": {"$ref": "#/components/schemas/ErrorDetail"}, "current": ONE},
+            "required": ["error", "current"],
+        },
+        "someone changed it meanwhile: `current` is the newer snippet; send its `version` to try again",
+    )
+}
+
+
+def query(name: str, schema: dict, description: str) -> dict:
+    return {"name": name, "in": "query", "required": False, "description": description, "schema": schema}
+
+
+def snippet_paths() -> dict:
+    write = {**REFUSALS, **GATE}
+    return {
+        "/snippets": {
+            "get": {
+                "operationId": "list_snippets",
+                "summary": "Saved calculations, newest first; search and filter",
+                "parameters": [
+                    query("q", {"type": "string"}, "words to look for in the title, job number, notes and tags"),
+                    query("press", {"type": "string"}, "only this press"),
+                    query("kind", {"type": "string"}, "only this kind of calculation"),
+                    query("limit", {"type": "integer", "minimum": 1, "maximum": 500, "default": 50}, "at most"),
+                    query("offset", {"type": "integer", "minimum": 0, "maximum": 10**9, "default": 0}, "skip"),
+                ],
+                "responses": {"200": json_body(LISTING), "400": REFUSALS["400"]},
+            },
+            "post": {
+                "operationId": "create_snippet",
+                "summary": "Save a calculation (the results are worked out on the server)",
+                "parameters": GATE_HEADERS,
+                "requestBody": {"required": True, "content": {JSON: {"schema": snippet_create()}}},
+                "responses": {
+                    "201": {
+                        **json_body(ONE, "saved"),
+                        "headers": {"Location": {"description": "its address", "schema": {"type": "string"}}},
+                    },
+                    **write,
+                },
+            },
+        },
+        "/snippets/{snippet_id}": {
+            "parameters": [SNIPPET_ID],
+            "get": {"operationId": "read_snippet", "responses": {"200": json_body(ONE), **NOT_FOUND}},
+            "put": update_operation("update_snippet"),
+            "patch": update_operation("patch_snippet"),
+            "delete": {
+                "operationId": "delete_snippet",
+                "summary": "Move to the bin (needs the supervisor passcode where one is set)",
+                "parameters": [
+                    *GATE_HEADERS,
+                    query("version", {"type": "integer", "minimum": 1}, "refuse (409) if it changed since"),
+                ],
+                "responses": {
+                    "200": json_body(
+                        {
+                            "type": "object",
+                            "properties": {"deleted": ONE, "gone_for_good_after": {"type": "string"}},
+                            "required": ["deleted", "gone_for_good_after"],
+                        }
+                    ),
+                    "400": REFUSALS["400"],
+                    **GATE,
+                    **NOT_FOUND,
+                    **CONFLICT,
+                },
+            },
+        },
+        "/snippets/{snippet_id}/rerun": {
+            "parameters": [SNIPPET_ID],
+            "get": {
+                "operationId": "rerun_snippet",
+                "summary": "Work a saved calculation out again with today's code, and compare",
+                "responses": {"200": json_body(RERUN), **NOT_FOUND},
+            },
+        },
+        "/snippets/{snippet_id}/restore": {
+            "parameters": [SNIPPET_ID],
+            "post": {
+                "operationId": "restore_snippet",
+                "summary": "Take a snippet back out of the bin",
+                "parameters": GATE_HEADERS,
+                "requestBody": {"required": False, "content": {JSON: {"schema": {"type": "object"}}}},
+                "responses": {"200": json_body(ONE), **REFUSALS, **GATE, **NOT_FOUND},
+            },
+        },
+        "/snippets/bin": {
+            "get": {
+                "operationId": "snippet_bin",
+                "summary": "The bin: deleted snippets, kept for `days` days",
+                "parameters": GATE_HEADERS,
+                "responses": {
+                    "200": json_body(
+                        {
+                            "type": "object",
+                            "properties": {"snippets": {"type": "array", "items": ONE}, "days": {"type": "integer"}},
+                            "required": ["snippets", "days"],
+                        }
+                    ),
+                    **GATE,
+                },
+            },
+        },
+        "/snippets/export": {
+            "get": {
+                "operationId": "export_snippets",
+                "summary": "Every snippet as an inkfilm JSON export (a download)",
+                "responses": {"200": json_body(EXPORT)},
+            },
+        },
+        "/snippets/export.csv": {
+            "get": {
+                "operationId": "export_snippets_csv",
+                "summary": "Every snippet as CSV (a download)",
+                "responses": {"200": {"description": "CSV", "content": {"text/csv": {"schema": {"type": "string"}}}}},
+            },
+        },
+        "/snippets/import": {
+            "post": {
+                "operationId": "import_snippets",
+                "summary": "Add the snippets of an inkfilm JSON export (those already here are skipped)",
+                "parameters": GATE_HEADERS,
+                "requestBody": {
+                    "required": True,
+                    "description": f"an export (up to {snippets_api.MAX_IMPORT_BODY // (1024 * 1024)} MiB)",
+                    "content": {JSON: {"schema": {"anyOf": [EXPORT, {"type": "array"}]}}},
+                },
+                "responses": {
+                    "200": json_body(
+                        {
+                            "type": "object",
+                            "properties": {"added": {"type": "integer"}, "already_here": {"type": "integer"}},
+                            "required": ["added", "already_here"],
+                        }
+                    ),
+                    **REFUSALS,
+                    **GATE,
+                },
+            },
+        },
+    }
+
+
+def update_operation(operation_id: str) -> dict:
+    return {
+        "operationId": operation_id,
+        "summary": "Change a snippet's title, job number, notes, … (made against the `version` you read)",
+        "parameters": GATE_HEADERS,
+        "requestBody": {"required": True, "content": {JSON: {"schema": snippet_update()}}},
+        "responses": {"200": json_body(ONE), **REFUSALS, **GATE, **NOT_FOUND, **CONFLICT},
+    }
+
+
+RERUN = {
+    "type": "object",
+    "properties": {
+        "same": {"type": "boolean"},
+        "saved": {"type": "object"},
+        "today": {"type": ["object", "null"]},
+        "changes": {
+            "type": "array",
+            "items": {"type": "object", "properties": {"where": {"type": "string"}}, "required": ["where"]},
+        },
+        "error": {"$ref": "#/components/schemas/ErrorDetail"},
+    },
+    "required": ["same", "saved", "changes"],
+}
+EXPORT = {
+    "type": "object",
+    "properties": {
+        "format": {"type": "string"},
+        "format_version": {"type": "integer"},
+        "exported_at": {"type": "string"},
+        "snippets": {"type": "array", "items": {"type": "object"}},
+    },
+    "required": ["snippets"],
+}
+
+
+# --- the whole ---------------------------------------------------------------------------------------
+
+
+@cache
+def description() -> dict:
+    """The OpenAPI 3.1 document of ``/api/v1`` (paths relative to the server ``/api/v1``)."""
+    paths = {f"/{spec.kind}": calculation(spec) for spec in CALCULATORS}
+    paths |= snippet_paths()
+    paths["/openapi.json"] = {
+        "get": {
+            "operationId": "openapi",
+            "summary": "This description",
+            "responses": {"200": json_body({"type": "object", "required": ["openapi", "paths"]})},
+        }
+    }
+    return {
+        "openapi": "3.1.0",
+        "info": {
+            "title": "inkfilm API",
+            "version": "1",
+            "description": (
+                "Anilox volume, ink film and ink quantities for the flexographic pressroom, and saved "
+                "calculations (snippets). Every POST, PUT and PATCH sends `Content-Type: application/json` "
+                f"(else 415), at most {MAX_BODY // 1024} KiB (an import up to "
+                f"{snippets_api.MAX_IMPORT_BODY // (1024 * 1024)} MiB). Quantities go in as text "
+                "'<number> <unit>' and come back as {value, unit}; shares are numbers from 0 to 1. "
+                "Every refusal answers {error: {field, message}}."
+            ),
+        },
+        "servers": [{"url": "/api/v1"}],
+        "paths": paths,
+        "components": {
+            "schemas": {
+                "Quantity": {
+                    "type": "object",
+                    "properties": {"value": {"type": "number"}, "unit": {"type": "string"}},
+                    "required": ["value", "unit"],
+                    "additionalProperties": False,
+                },
+                "Error": {
+                    "type": "object",
+                    "properties": {"error": {"$ref": "#/components/schemas/ErrorDetail"}},
+                    "required": ["error"],
+                },
+                "ErrorDetail": {
+                    "type": "object",
+                    "properties": {
+                        "field": {"type": ["string", "null"], "description": "the input (or header) meant"},
+                        "message": {"type": "string", "minLength": 1},
+                    },
+                    "required": ["field", "message"],
+                },
+                "Snippet": SNIPPET,
+            }
+        },
+    }
+
+
+bp = Blueprint("openapi", __name__)
+
+
+@bp.get("/openapi.json")
+def openapi_json():
+    return jsonify(description())
+
+
+# Nested once, at import, like every other child of ``api``.
+api.register_blueprint(bp)
