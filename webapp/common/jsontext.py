@@ -62,6 +62,8 @@ def problem(
     numbers beyond ``±max_integer``. A bad key is reported at the object
     holding it; too deep or too many at ``where``.
     """
+    if _fine(value, max_depth, max_text, max_values, finite, max_integer):
+        return None  # the usual case, found without building a single path
     stack = [(value, where, 0)]
     count = 0
     while stack:
@@ -92,6 +94,39 @@ def problem(
             if max_integer is not None and abs(item) > max_integer:
                 return place or None, f"is too large a number (at most {max_integer:.0e})"
     return None
+
+
+def _fine(value, max_depth, max_text, max_values, finite, max_integer) -> bool:
+    """Whether ``problem`` would find nothing: the same checks, no paths (an import walks millions of values)."""
+    stack = [(value, 0)]
+    count = 0
+    no_text_limit = max_text is None
+    while stack:
+        item, depth = stack.pop()
+        count += 1
+        kind = type(item)
+        if kind is str:
+            if not item.isascii() and SURROGATE.search(item) or not no_text_limit and len(item) > max_text:
+                return False
+        elif kind is dict:
+            if depth >= max_depth or any(not key.isascii() and SURROGATE.search(key) for key in item):
+                return False
+            stack.extend((inner, depth + 1) for inner in item.values())
+        elif kind is list:
+            if depth >= max_depth:
+                return False
+            stack.extend((inner, depth + 1) for inner in item)
+        elif kind is float:
+            if finite and not math.isfinite(item):
+                return False
+        elif kind is int:
+            if max_integer is not None and abs(item) > max_integer:
+                return False
+        elif kind is not bool and item is not None:
+            return False  # not JSON: let the full walk say what it makes of it
+        if max_values is not None and count > max_values:
+            return False
+    return True
 
 
 def check(value, where: str = "", **limits) -> None:
