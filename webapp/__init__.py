@@ -14,9 +14,10 @@ opens nothing at import time. waitress serves it (see ``webapp.cli``).
 from __future__ import annotations
 
 import os
+import sqlite3
 from pathlib import Path
 
-from flask import Flask, jsonify, request
+from flask import Flask, Response, jsonify, request
 from werkzeug.exceptions import HTTPException
 
 
@@ -56,6 +57,18 @@ def create_app(test_config: dict | None = None) -> Flask:
         if request.path.startswith("/api/"):
             return jsonapi.error_response(None, _plain_http_message(exc), exc.code or 400)
         return exc
+
+    @app.errorhandler(sqlite3.DatabaseError)
+    @app.errorhandler(OSError)
+    def storage_error(exc: Exception):
+        # A full disk or a read-only data folder: say so (503), not "something went wrong".
+        if not db.is_storage_failure(exc):
+            return unexpected_error(exc)
+        app.logger.error("cannot write the data on %s %s: %s", request.method, request.path, exc)
+        if request.path.startswith("/api/"):
+            return jsonapi.error_response(None, db.STORAGE_MESSAGE, 503)
+        message = db.STORAGE_MESSAGE[0].upper() + db.STORAGE_MESSAGE[1:] + ". Try again once it has room."
+        return Response(message, status=503, mimetype="text/plain")
 
     @app.errorhandler(Exception)
     def unexpected_error(exc: Exception):

@@ -91,13 +91,21 @@ def serve_command(args) -> int:
 
 
 def serve_worker(args) -> int:
+    import sqlite3
+
     import waitress
 
     from webapp import create_app, watchdog
+    from webapp.common import db
     from webapp.common.db import NewerDatabaseError
 
     # The demo shop never fills the real data folder.
     data_dir = (DEMO_DATA if args.demo and args.data_dir == DEFAULT_DATA else args.data_dir).resolve()
+    # A folder the server cannot write: one plain line, not a traceback on the first save.
+    problem = db.writable_problem(data_dir)
+    if problem:
+        print(f"inkfilm: {problem}; give a --data-dir the server may write to", file=sys.stderr)
+        return 2
     config = {"DATA_DIR": str(data_dir), "DEMO": args.demo}
     shop = args.shop_passcode or os.environ.get("INKFILM_SHOP_PASSCODE")
     supervisor = args.supervisor_passcode or os.environ.get("INKFILM_SUPERVISOR_PASSCODE")
@@ -140,6 +148,9 @@ def serve_worker(args) -> int:
         app = create_app(config)
     except NewerDatabaseError as exc:
         print(f"inkfilm: {exc}", file=sys.stderr)
+        return 2
+    except (OSError, sqlite3.DatabaseError) as exc:
+        print(f"inkfilm: cannot use the data in {data_dir}: {exc}", file=sys.stderr)
         return 2
     locks = [name for name, value in (("shop", shop), ("supervisor", supervisor)) if value]
     lock_note = f"passcodes set: {', '.join(locks)}" if locks else "no passcodes: the floor can write freely"

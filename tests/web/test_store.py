@@ -304,7 +304,7 @@ def test_import_names_what_is_wrong(conn, data, field):
 def test_csv_export_has_one_row_per_snippet_and_keeps_formulas_as_text(conn):
     save(conn, "=HYPERLINK(1)", notes="a, b\nc")
     lines = exchange.export_csv(conn).splitlines()
-    assert lines[0].startswith("id,uid,kind,title")
+    assert lines[0].startswith('"id","uid","kind","title"')
     assert "'=HYPERLINK(1)" in lines[1]
 
 

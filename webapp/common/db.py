@@ -12,6 +12,7 @@ when the app starts.
 from __future__ import annotations
 
 import contextlib
+import errno
 import os
 import sqlite3
 from pathlib import Path
@@ -61,14 +62,70 @@ def connect(path: str | os.PathLike) -> sqlite3.Connection:
 
 @contextlib.contextmanager
 def transaction(conn: sqlite3.Connection):
-    """A write transaction: committed when the block ends, rolled back on error."""
+    """A write transaction: committed when the block ends, rolled back on error.
+
+    The error that stopped the block is the one raised: on a full disk SQLite
+    may have rolled back already, and a failing ``ROLLBACK`` must not hide why.
+    """
     conn.execute("BEGIN IMMEDIATE")
     try:
         yield conn
+        conn.execute("COMMIT")
     except BaseException:
-        conn.execute("ROLLBACK")
+        if conn.in_transaction:
+            with contextlib.suppress(sqlite3.Error):
+                conn.execute("ROLLBACK")
         raise
-    conn.execute("COMMIT")
+
+
+# --- a disk that cannot be written --------------------------------------------------------------
+
+STORAGE_MESSAGE = "the server cannot write its data (disk full or read-only); nothing was saved"
+_STORAGE_ERRNOS = {errno.ENOSPC, errno.EROFS, errno.EACCES, errno.EPERM, errno.EDQUOT}
+_STORAGE_SQLITE = ("SQLITE_FULL", "SQLITE_READONLY", "SQLITE_IOERR", "SQLITE_CANTOPEN")
+_STORAGE_WORDS = ("disk is full", "readonly database", "read-only", "disk i/o error", "unable to open database")
+
+
+def is_storage_failure(exc: BaseException) -> bool:
+    """Whether ``exc`` says the data folder cannot be written (full, read-only, not allowed).
+
+    SQLite's result code where Python gives it (``sqlite_errorname``), else its
+    message; for ``OSError`` the errno (ENOSPC, EROFS, EACCES, …).
+    """
+    if isinstance(exc, sqlite3.DatabaseError):
+        name = getattr(exc, "sqlite_errorname", None) or ""
+        message = str(exc).lower()
+        return name.startswith(_STORAGE_SQLITE) or any(words in message for words in _STORAGE_WORDS)
+    if isinstance(exc, OSError):
+        return exc.errno in _STORAGE_ERRNOS
+    return False
+
+
+def writable_problem(data_dir: str | os.PathLike) -> str | None:
+    """Why the server could not keep its data in ``data_dir`` (created if missing), or ``None``.
+
+    Tried for real, not by permission bits (root passes every ``os.access``):
+    a file made and removed in the folder, then a write transaction opened on
+    the database file.
+    """
+    folder = Path(data_dir)
+    try:
+        folder.mkdir(parents=True, exist_ok=True)
+        probe = folder / f".inkfilm-write-check-{os.getpid()}"
+        probe.write_bytes(b"")
+        probe.unlink()
+    except OSError as exc:
+        return f"cannot write the data folder {folder}: {exc.strerror or exc}"
+    path = folder / FILENAME
+    try:
+        with contextlib.closing(connect(path)) as conn:
+            conn.execute("BEGIN IMMEDIATE")
+            # A real write, rolled back: a read-only file lets a transaction begin, not a write.
+            conn.execute("CREATE TABLE inkfilm_write_check (x)")
+            conn.execute("ROLLBACK")
+    except sqlite3.Error as exc:
+        return f"cannot use the database {path}: {exc}"
+    return None
 
 
 def migrate(path: str | os.PathLike) -> int:

@@ -8,6 +8,8 @@ significant figures, money to the cent, shares as percentages.
 
 from __future__ import annotations
 
+import math
+
 from calc.display import format_money, format_number, format_percent, role_units, show, show_value, unit_label
 
 
@@ -26,7 +28,20 @@ def number(value) -> str:
     >>> number(6.975018), number(12345.6), number("Cyan")
     ('6.98', '12,300', 'Cyan')
     """
-    return format_number(float(value)) if is_number(value) else str(value)
+    if not is_number(value):
+        return _text(value)
+    try:
+        return format_number(float(value))
+    except OverflowError:  # a whole number too large for a float, as a stored file may hold
+        return "—"
+
+
+def _text(value) -> str:
+    """Anything else as text; never fails on what a stored file holds (nested far too deep)."""
+    try:
+        return str(value)
+    except RecursionError:
+        return "(nested too deeply to show here)"
 
 
 def when(stamp: str | None) -> str:
@@ -54,15 +69,18 @@ def shown(key, value, *, shares=frozenset(), money=frozenset()) -> str:
     if is_quantity(value) and is_number(value["value"]):
         return f"{number(value['value'])} {unit_label(str(value['unit']))}"
     if is_number(value):
-        if key in shares:
-            return f"{format_percent(value)} %"
-        if key in money:
-            return format_money(value)
+        try:
+            if key in shares:
+                return f"{format_percent(value)} %"
+            if key in money and math.isfinite(value):
+                return format_money(value)
+        except OverflowError:  # a whole number too large for a float, as a stored file may hold
+            return "—"
         return number(value)
     if isinstance(value, str) and " " in value.strip():
         amount, _, spelling = value.strip().rpartition(" ")
         return f"{amount} {unit_label(spelling)}"
-    return str(value)
+    return _text(value)
 
 
 # --- presenter helpers for the calculator pages ------------------------------------

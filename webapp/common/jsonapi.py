@@ -16,6 +16,7 @@ from collections.abc import Collection
 from flask import Blueprint, jsonify, request
 
 from calc import InputError
+from webapp.common import jsontext
 from webapp.common.errors import WebError
 
 api = Blueprint("api", __name__, url_prefix="/api/v1")
@@ -84,8 +85,12 @@ def check_fields(body, required: Collection[str], optional: Collection[str] = fr
 
 
 def request_body() -> dict:
-    """The request's JSON body, which must be an object."""
-    body = request.get_json(force=True, silent=True)
+    """The request's JSON body, which must be an object (not nested too deeply, no lone surrogates)."""
+    try:
+        body = request.get_json(force=True, silent=True)
+    except RecursionError:
+        raise InputError(None, f"the request body is nested too deeply: at most {jsontext.MAX_DEPTH} levels") from None
     if not isinstance(body, dict):
         raise InputError(None, "the request body must be a JSON object")
+    jsontext.check_body(body)
     return body

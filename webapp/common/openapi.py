@@ -26,7 +26,7 @@ from webapp.calculators import CALCULATORS
 from webapp.calculators.spec import Answer, Calculator
 from webapp.common.jsonapi import MAX_BODY, api
 from webapp.snippets import api as snippets_api
-from webapp.snippets import rules
+from webapp.snippets import exchange, rules
 
 # What ``calc.units.parse_quantity`` reads: a number, then a unit (checked by the server, not by this pattern).
 QUANTITY_PATTERN = r"^\s*[+-]?(\d+(\.\d*)?|\.\d+)([eE][+-]?\d+)?\s*\S.*$"
@@ -375,7 +375,7 @@ def snippet_paths() -> dict:
                 "parameters": GATE_HEADERS,
                 "requestBody": {
                     "required": True,
-                    "description": f"an export (up to {snippets_api.MAX_IMPORT_BODY // (1024 * 1024)} MiB)",
+                    "description": f"an export (up to {exchange.MAX_IMPORT_BYTES // (1024 * 1024)} MiB)",
                     "content": {JSON: {"schema": {"anyOf": [EXPORT, {"type": "array"}]}}},
                 },
                 "responses": {
@@ -454,7 +454,7 @@ def description() -> dict:
                 "Anilox volume, ink film and ink quantities for the flexographic pressroom, and saved "
                 "calculations (snippets). Every POST, PUT and PATCH sends `Content-Type: application/json` "
                 f"(else 415), at most {MAX_BODY // 1024} KiB (an import up to "
-                f"{snippets_api.MAX_IMPORT_BODY // (1024 * 1024)} MiB). Quantities go in as text "
+                f"{exchange.MAX_IMPORT_BYTES // (1024 * 1024)} MiB). Quantities go in as text "
                 "'<number> <unit>' and come back as {value, unit}; shares are numbers from 0 to 1. "
                 "Every refusal answers {error: {field, message}}."
             ),

@@ -9,11 +9,14 @@ unlocked session cookie and then carries ``X-CSRF-Token``. Writes send JSON
 
 from __future__ import annotations
 
+import re
+
 from flask import Blueprint, Response, jsonify, request, url_for
 
 from calc import InputError
 from webapp.auth.gate import api_gate as require
 from webapp.calculators import CALCULATIONS
+from webapp.common import jsontext
 from webapp.common.db import get_db
 from webapp.common.jsonapi import api, check_fields, error_response, request_body
 from webapp.snippets import exchange, store
@@ -21,7 +24,7 @@ from webapp.snippets.rerun import rerun as work_out_again
 
 bp = Blueprint("snippets_api", __name__, url_prefix="/snippets")
 
-MAX_IMPORT_BODY = 8 * 1024 * 1024
+MAX_QUERY = 200
 CREATE_OPTIONAL = {"job_number", "press", "station", "notes", "tags", "saved_by"}
 UPDATE_FIELDS = {"title", *CREATE_OPTIONAL}
 
@@ -42,14 +45,15 @@ def conflict(exc: store.Conflict):
 def limit_body():
     # The parent ``api`` allows small bodies; an import file may be larger.
     if request.endpoint == "api.snippets_api.import_snippets":
-        request.max_content_length = MAX_IMPORT_BODY
+        request.max_content_length = exchange.MAX_IMPORT_BYTES
 
 
 def _whole_number(name: str, default: int, low: int, high: int) -> int:
     raw = request.args.get(name)
     if raw is None or raw == "":
         return default
-    if not raw.isdigit() or not low <= int(raw) <= high:
+    # ASCII digits only: "²".isdigit() is true, but int("²") fails.
+    if not re.fullmatch(r"[0-9]{1,12}", raw) or not low <= int(raw) <= high:
         raise InputError(name, f"must be a whole number from {low} to {high}")
     return int(raw)
 
@@ -58,9 +62,12 @@ def _whole_number(name: str, default: int, low: int, high: int) -> int:
 def list_snippets():
     limit = _whole_number("limit", 50, 1, 500)
     offset = _whole_number("offset", 0, 0, 10**9)
+    q = request.args.get("q", "")
+    if len(q) > MAX_QUERY:
+        raise InputError("q", f"may be at most {MAX_QUERY} characters: a few words to look for")
     snippets, total = store.search(
         get_db(),
-        request.args.get("q", ""),
+        q,
         press=request.args.get("press", ""),
         kind=request.args.get("kind", ""),
         limit=limit,
@@ -159,11 +166,13 @@ def import_snippets():
 
 
 def request_body_any():
-    """The JSON body, object or list (an import file is either)."""
-    body = request.get_json(silent=True)
-    if body is None:
-        raise InputError(None, "the request body must be an inkfilm JSON export")
-    return body
+    """The JSON body, object or list (an import file is either); read once, not kept twice."""
+    if not request.is_json:
+        raise InputError(None, "the request body must be an inkfilm JSON export (Content-Type: application/json)")
+    try:
+        return jsontext.loads(request.get_data(cache=False))
+    except ValueError:
+        raise InputError(None, "the request body must be an inkfilm JSON export") from None
 
 
 # Nested once, at import: under ``/api/v1``, with its error shape and body limit.

@@ -11,6 +11,7 @@ from __future__ import annotations
 
 import io
 import json
+import sqlite3
 
 import segno
 from flask import (
@@ -29,14 +30,38 @@ from calc import InputError
 from webapp.auth.csrf import protect
 from webapp.auth.gate import form_gate
 from webapp.calculators import BY_KIND, CALCULATIONS, kind_name
-from webapp.common.db import get_db
+from webapp.common import jsontext
+from webapp.common.db import STORAGE_MESSAGE, get_db, is_storage_failure
 from webapp.snippets import api, exchange, rules, store
 from webapp.snippets.rerun import rerun as work_out_again
 
 bp = Blueprint("snippets", __name__)
+
+
+@bp.before_request
+def limit_upload():
+    # Before the CSRF check reads the form: an import file may be as large as an export gives.
+    if request.endpoint == "snippets.import_page":
+        request.max_content_length = exchange.MAX_IMPORT_BYTES
+
+
 protect(bp)
 
 NAME_COOKIE = "inkfilm_name"
+DISK_TROUBLE = STORAGE_MESSAGE[0].upper() + STORAGE_MESSAGE[1:] + ". What you typed is still in the form."
+
+
+def _storage_trouble(exc: Exception) -> bool:
+    """A write the disk refused (full, read-only): the form is shown again, not an error page."""
+    return isinstance(exc, sqlite3.DatabaseError | OSError) and is_storage_failure(exc)
+
+
+def _shown_text(meta: dict) -> dict:
+    """What was typed, safe to put back on a page (a lone surrogate cannot be sent)."""
+    return {
+        name: jsontext.SURROGATE.sub("\ufffd", value) if isinstance(value, str) else value
+        for name, value in meta.items()
+    }
 
 
 def _form_meta() -> dict:
@@ -84,11 +109,11 @@ def _new_form(kind, inputs, meta, *, errors=None, status=200):
         render_template(
             "snippets/new.html",
             kind=kind,
-            inputs=inputs,
-            inputs_json=json.dumps(inputs, ensure_ascii=False),
+            inputs=_displayable(inputs),
+            inputs_json=json.dumps(_displayable(inputs), ensure_ascii=False),
             results=results,
             problem=problem,
-            meta=meta,
+            meta=_shown_text(meta),
             errors=errors or {},
             limits=rules.LIMITS,
             presses=store.presses(get_db()),
@@ -98,12 +123,17 @@ def _new_form(kind, inputs, meta, *, errors=None, status=200):
 
 
 def _inputs_from_form():
+    # What they hold is checked with the rest (``rules.compute``): a lone surrogate is named there.
     try:
-        inputs = json.loads(request.form.get("inputs", ""))
-        json.dumps(inputs, ensure_ascii=False).encode()  # a lone surrogate (\ud800) can be neither shown nor kept
-    except ValueError:
-        inputs = None
-    return inputs
+        return json.loads(request.form.get("inputs", ""))
+    except (ValueError, RecursionError):
+        return None
+
+
+def _displayable(value):
+    """``value`` with any lone surrogate (``\\ud800``) replaced, so that the page can be sent."""
+    text = json.dumps(value, ensure_ascii=False)
+    return json.loads(jsontext.SURROGATE.sub("\ufffd", text)) if jsontext.has_lone_surrogate(text) else value
 
 
 def _default_title(kind: str, inputs) -> str:
@@ -140,6 +170,10 @@ def create():
         snippet = store.create(get_db(), kind, inputs, meta, CALCULATIONS)
     except InputError as exc:
         return _new_form(kind, inputs, meta, errors={exc.field or "form": exc.message}, status=400)
+    except (sqlite3.DatabaseError, OSError) as exc:
+        if not _storage_trouble(exc):
+            raise
+        return _new_form(kind, inputs, meta, errors={"form": DISK_TROUBLE}, status=503)
     flash("Saved. Anyone on the shop network can find it under Saved.")
     response = redirect(url_for("snippets.show", snippet_id=snippet["id"]), code=303)
     if snippet["saved_by"]:
@@ -159,6 +193,7 @@ def _load(snippet_id: int, *, deleted: bool = False) -> dict:
 
 @bp.get("/s/<int:snippet_id>")
 def short_link(snippet_id: int):
+    _load(snippet_id)
     return redirect(url_for("snippets.show", snippet_id=snippet_id))
 
 
@@ -214,7 +249,7 @@ def _edit_form(snippet, meta, *, version, errors=None, newer=None, status=200):
         render_template(
             "snippets/edit.html",
             snippet=snippet,
-            meta=meta,
+            meta=_shown_text(meta),
             version=version,
             errors=errors or {},
             newer=newer,
@@ -264,6 +299,10 @@ def update(snippet_id: int):
         )
     except InputError as exc:
         return _edit_form(snippet, meta, version=version, errors={exc.field or "form": exc.message}, status=400)
+    except (sqlite3.DatabaseError, OSError) as exc:
+        if not _storage_trouble(exc):
+            raise
+        return _edit_form(snippet, meta, version=version, errors={"form": DISK_TROUBLE}, status=503)
     flash("Changes saved.")
     return redirect(url_for("snippets.show", snippet_id=snippet_id), code=303)
 
@@ -345,7 +384,7 @@ def import_page():
     if upload is None or not upload.filename:
         return render_template("snippets/import.html", errors={"file": "Choose an export file first."}), 400
     try:
-        data = json.loads(upload.read().decode("utf-8-sig"))
+        data = jsontext.loads(upload.read())
         counts = exchange.import_all(get_db(), data)
     except InputError as exc:
         where = f"{exc.field}: " if exc.field else ""

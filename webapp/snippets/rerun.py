@@ -39,7 +39,11 @@ def rerun(snippet: dict, calculations: dict) -> Rerun:
         today = compute(snippet["kind"], snippet["inputs"], calculations)
     except InputError as exc:
         return Rerun(None, [], exc)
-    return Rerun(today, compare(snippet["results"], today))
+    try:
+        changes = compare(snippet["results"], today)
+    except RecursionError:  # saved results nested far deeper than any calculation gives
+        changes = [Change("", snippet["results"], today)]
+    return Rerun(today, changes)
 
 
 def _is_quantity(value) -> bool:

@@ -12,6 +12,7 @@ from __future__ import annotations
 import re
 
 from calc import InputError
+from webapp.common import jsontext
 
 # Longest text a field takes, in characters.
 LIMITS = {
@@ -24,6 +25,10 @@ LIMITS = {
 }
 MAX_TAGS = 12
 MAX_TAG = 30
+# What a snippet's inputs and results may hold (a twelve-station estimate holds a few hundred values).
+MAX_VALUES = 5_000
+MAX_VALUE_TEXT = 1_000
+MAX_INTEGER = 10**18
 META_FIELDS = ("title", "job_number", "press", "station", "notes", "tags", "saved_by")
 KIND_PATTERN = re.compile(r"^[a-z][a-z0-9_]{0,39}$")
 
@@ -44,6 +49,8 @@ def parse_tags(value) -> list[str]:
         raise InputError("tags", "must be text, tags separated by commas")
     tags: list[str] = []
     for item in items:
+        if jsontext.has_lone_surrogate(item):
+            raise InputError("tags", jsontext.BAD_TEXT)
         tag = " ".join(item.split()).lower()
         if tag and tag not in tags:
             if len(tag) > MAX_TAG:
@@ -72,6 +79,8 @@ def check_meta(data: dict, *, partial: bool = False) -> dict:
             value = ""
         if not isinstance(value, str):
             raise InputError(name, "must be text")
+        if jsontext.has_lone_surrogate(value):
+            raise InputError(name, jsontext.BAD_TEXT)
         # Notes keep their line breaks; one-line fields lose stray spaces.
         value = value.strip() if name == "notes" else " ".join(value.split())
         value = value.replace("\r\n", "\n")
@@ -83,16 +92,27 @@ def check_meta(data: dict, *, partial: bool = False) -> dict:
     return clean
 
 
-def check_kind(kind, calculations: dict) -> str:
+def check_kind(kind, calculations: dict, field: str = "kind") -> str:
     if not isinstance(kind, str) or kind not in calculations:
-        raise InputError("kind", f"must be one of: {', '.join(sorted(calculations))}")
+        known = ", ".join(sorted(calculations))
+        raise InputError(field, f"must be one of the calculations this inkfilm knows: {known}")
     return kind
+
+
+def check_data(value, where: str) -> None:
+    """A snippet's ``inputs`` or ``results`` (JSON objects) hold only what can be kept and shown:
+    at most ``jsontext.MAX_DEPTH`` levels and ``MAX_VALUES`` values, texts of at most
+    ``MAX_VALUE_TEXT`` characters without lone surrogates, finite numbers."""
+    if not isinstance(value, dict):
+        raise InputError(where, "must be a JSON object")
+    jsontext.check(value, where, max_text=MAX_VALUE_TEXT, max_values=MAX_VALUES, finite=True, max_integer=MAX_INTEGER)
 
 
 def compute(kind: str, inputs, calculations: dict) -> dict:
     """The API's answer for ``inputs``; a bad input is reported inside ``inputs``."""
     if not isinstance(inputs, dict):
         raise InputError("inputs", "must be a JSON object: the calculation's request body")
+    check_data(inputs, "inputs")
     try:
         return calculations[kind](dict(inputs))
     except InputError as exc:

@@ -10,6 +10,7 @@ and plain data checked by ``webapp.snippets.rules``.
 from __future__ import annotations
 
 import json
+import re
 import uuid
 from datetime import UTC, datetime, timedelta
 
@@ -18,6 +19,13 @@ from webapp.common.db import transaction
 from webapp.snippets.rules import META_FIELDS, check_kind, check_meta, compute
 
 BIN_DAYS = 30
+# SQLite's largest integer: a larger id in an address is no snippet here (404), never an overflow.
+MAX_ID = 2**63 - 1
+# A version counts changes; the largest one taken keeps clear of SQLite's integers.
+MAX_VERSION = 10**15
+# Search: SQLite refuses LIKE patterns over 50,000 bytes; no word a person types is this long.
+MAX_WORDS = 10
+MAX_WORD = 100
 
 
 class NotFound(LookupError):
@@ -84,7 +92,7 @@ def _row_to_snippet(conn, row, tags: list[str] | None = None) -> dict:
 
 def get(conn, snippet_id: int, *, deleted: bool = False) -> dict:
     """The snippet ``snippet_id``; from the bin when ``deleted``."""
-    if not 0 <= snippet_id < 2**63:  # beyond SQLite's integers (sqlite3 would raise OverflowError): no such id
+    if not 0 < snippet_id <= MAX_ID:
         raise NotFound(snippet_id)
     row = conn.execute(
         "SELECT * FROM snippet WHERE id = ? AND (deleted_at IS NOT NULL) = ?", (snippet_id, bool(deleted))
@@ -105,8 +113,8 @@ def search(conn, q: str = "", *, press: str = "", kind: str = "", limit: int = 5
     """
     where = ["s.deleted_at IS NULL"]
     params: list = []
-    for word in (q or "").split()[:10]:
-        pattern = _like(word)
+    for word in (q or "").split()[:MAX_WORDS]:
+        pattern = _like(word[:MAX_WORD])
         where.append(
             "(s.title LIKE ? ESCAPE '\\' OR s.job_number LIKE ? ESCAPE '\\' OR s.notes LIKE ? ESCAPE '\\'"
             " OR EXISTS (SELECT 1 FROM snippet_tag t WHERE t.snippet_id = s.id AND t.tag LIKE ? ESCAPE '\\'))"
@@ -206,10 +214,11 @@ def create(conn, kind: str, inputs: dict, meta: dict, calculations: dict, *, now
 
 
 def _check_version(version) -> int:
-    if isinstance(version, str) and version.strip().isdigit():
+    # ASCII digits only: "²".isdigit() is true, but int("²") fails.
+    if isinstance(version, str) and re.fullmatch(r"[0-9]{1,16}", version.strip()):
         version = int(version)
-    if not isinstance(version, int) or isinstance(version, bool) or version < 1:
-        raise InputError("version", "is required: the version the change was made against")
+    if not isinstance(version, int) or isinstance(version, bool) or not 1 <= version <= MAX_VERSION:
+        raise InputError("version", "is required: the version the change was made against (a whole number)")
     return version
 
 
