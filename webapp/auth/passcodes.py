@@ -38,6 +38,8 @@ RANK = {"reader": 0, "shop": 1, "supervisor": 2}
 UNLOCK_SECONDS = 12 * 3600
 MAX_PASSCODE = 200
 _SCRYPT = {"n": 2**14, "r": 8, "p": 1}
+# The longest a request waits for another's check of the same role's passcode before a 429.
+CHECK_QUEUE_S = 2.0
 
 
 # --- hashing ---------------------------------------------------------------------
@@ -94,6 +96,7 @@ def init_app(app) -> None:
         max_wait=app.config.get("PASSCODE_ROLE_MAX_WAIT_S", 3600),
     )
     app.extensions["inkfilm_verified"] = VerifiedCache(secret)
+    app.extensions["inkfilm_checking"] = {role: threading.Lock() for role in ("shop", "supervisor")}
     # The database is migrated by now (webapp.common.db.init_app runs first).
     purge_expired(database_path(app))
     app.context_processor(lambda: {"auth": auth_state()})
@@ -175,28 +178,6 @@ class Throttle:
             count, _last = self._failures.get(key, (0, 0.0))
             self._failures[key] = (count + 1, now)
 
-    def attempt(self, key: str) -> float:
-        """If ``key`` may try now, count the try as wrong up front and return 0; else the wait.
-
-        Counting before the passcode is checked keeps requests that arrive
-        together from slipping past the limit; ``succeeded`` takes it back.
-        """
-        with self._lock:
-            wait = self._wait(key, self.clock())
-        if wait > 0:
-            return wait
-        self.failed(key)
-        return 0.0
-
-    def refund(self, key: str) -> None:
-        """Take back one try counted by ``attempt`` that was never checked."""
-        with self._lock:
-            count, last = self._failures.get(key, (0, 0.0))
-            if count > 1:
-                self._failures[key] = (count - 1, last)
-            else:
-                self._failures.pop(key, None)
-
     def succeeded(self, key: str) -> None:
         with self._lock:
             self._failures.pop(key, None)
@@ -236,32 +217,16 @@ class RoleCeiling:
         with self._lock:
             return self._wait(role, self.clock())
 
-    def attempt(self, role: str) -> float:
-        """Like ``Throttle.attempt``: count the try up front if the role may be tried now, else the wait."""
-        with self._lock:
-            now = self.clock()
-            wait = self._wait(role, now)
-            if wait == 0:
-                self._failures[role].append(now)
-            return wait
-
     def failed(self, role: str) -> None:
         with self._lock:
             now = self.clock()
             self._wait(role, now)
             self._failures[role].append(now)
 
-    def refund(self, role: str) -> None:
-        """Take back the latest try (a right passcode, counted up front by ``attempt``)."""
-        with self._lock:
-            times = self._failures.get(role)
-            if times:
-                times.pop()
-
 
 class Locked(Exception):
-    def __init__(self, seconds: float, why: str = "from this device"):
-        super().__init__(f"too many wrong passcodes {why}; try again in {max(1, round(seconds))} s")
+    def __init__(self, seconds: float, reason: str = "too many wrong passcodes from this device"):
+        super().__init__(f"{reason}; try again in {max(1, round(seconds))} s")
         self.seconds = seconds
         self.message = str(self)
 
@@ -372,33 +337,32 @@ def role_for_passcode(
         if role not in hashes:
             continue
         key = f"{address} {role}"
-        wait = throttle.wait(key)
-        if wait > 0:
-            locks.append((wait, "from this device"))
+        if not throttle.wait(key) and not ceiling.wait(role) and verified.get(passcode) == role:
+            return role  # verified before: no scrypt, and no queue behind others' checks
+        # One check at a time per role: requests arriving together cannot all
+        # slip under a limit, and a right passcode sent by many clients at once
+        # costs one scrypt (the others find it verified). The wait is bounded.
+        checking: threading.Lock = current_app.extensions["inkfilm_checking"][role]
+        if not checking.acquire(timeout=CHECK_QUEUE_S):
+            locks.append((1.0, "too many passcodes are being checked at once"))
             continue
-        wait = ceiling.wait(role)
-        if wait > 0:
-            locks.append((wait, f"lately for the {role} passcode"))
-            continue
-        if verified.get(passcode) == role:
-            throttle.succeeded(key)
-            return role
-        # Counted as wrong before the check, so that requests arriving together
-        # cannot all slip under a limit; a right passcode takes its try back.
-        wait = throttle.attempt(key)
-        if wait > 0:
-            locks.append((wait, "from this device"))
-            continue
-        wait = ceiling.attempt(role)
-        if wait > 0:
-            throttle.refund(key)
-            locks.append((wait, f"lately for the {role} passcode"))
-            continue
-        if check_passcode(passcode, hashes[role]):
-            verified.put(passcode, role)
-            throttle.succeeded(key)
-            ceiling.refund(role)
-            return role
+        try:
+            wait = throttle.wait(key)
+            if wait > 0:
+                locks.append((wait, "too many wrong passcodes from this device"))
+                continue
+            wait = ceiling.wait(role)
+            if wait > 0:
+                locks.append((wait, f"too many wrong tries at the {role} passcode lately"))
+                continue
+            if verified.get(passcode) == role or check_passcode(passcode, hashes[role]):
+                verified.put(passcode, role)
+                throttle.succeeded(key)
+                return role
+            throttle.failed(key)
+            ceiling.failed(role)
+        finally:
+            checking.release()
     if locks:
         raise Locked(*min(locks))
     return None
