@@ -6,6 +6,11 @@ today (``passcodes.needed``). Forms may carry the passcode in the same form
 (so nothing typed is lost to a lock); API clients send it in the
 ``X-Inkfilm-Passcode`` header or rely on an unlocked session plus the CSRF
 header. Forms and API ask the same questions here, in the same order.
+
+A passcode is tried only against the roles that open the action, the one it
+needs first (``passcodes.opening_roles``): a shop passcode on a save costs at
+most one scrypt (none once verified), and a wrong one counts against each role
+it could have been meant for.
 """
 
 from __future__ import annotations
@@ -24,14 +29,16 @@ def _needs(action: str) -> str:
     return "supervisor" if passcodes.needed(action) == "supervisor" else "shop"
 
 
-def _role_of(sent: str, field: str) -> str:
-    """The role a passcode opens; ``WebError`` for a wrong one (403) or while locked out (429)."""
+def _role_of(sent: str, field: str, action: str) -> str:
+    """The role a passcode opens for ``action``; ``WebError`` for a wrong one (403) or while locked out (429)."""
     try:
-        role = passcodes.role_for_passcode(sent)
+        opening = passcodes.opening_roles(action)
+        lower = tuple(role for role in ("shop", "supervisor") if role not in opening)
+        role = passcodes.role_for_passcode(sent, opening, known=lower)
     except passcodes.Locked as exc:
         raise WebError(field, exc.message, 429, retry_after=exc.seconds) from None
     if role is None:
-        raise WebError(field, "that passcode is not right", 403)
+        raise WebError(field, f"that passcode is not right: {WHAT[action]} needs the {_needs(action)} passcode", 403)
     return role
 
 
@@ -46,7 +53,7 @@ def form_gate(action: str) -> tuple[str | None, int]:
     if not sent:
         return f"{WHAT[action].capitalize()} needs the {_needs(action)} passcode: type it here.", 403
     try:
-        role = _role_of(sent, "passcode")
+        role = _role_of(sent, "passcode", action)
     except WebError as exc:
         return exc.message[0].upper() + exc.message[1:] + ".", exc.status
     passcodes.unlock(role)
@@ -63,7 +70,7 @@ def api_gate(action: str) -> None:
         return  # no passcode guards this: a passcode sent anyway is not checked
     sent = request.headers.get(PASSCODE_HEADER)
     if sent is not None:
-        role = _role_of(sent, PASSCODE_HEADER)
+        role = _role_of(sent, PASSCODE_HEADER, action)
     else:
         role = passcodes.session_role()
         writing = request.method not in ("GET", "HEAD")
