@@ -40,15 +40,16 @@ def compute(body: dict) -> dict:
 # --- the page -------------------------------------------------------------------
 
 ANGLE_CHOICES = {
-    "60": "60° — hexagonal, the usual laser engraving",
-    "45": "45° — square cells",
-    "30": "30° — hexagonal, turned",
+    "60": "60°, hexagonal (usual)",
+    "45": "45°, square cells",
+    "30": "30°, hexagonal turned",
 }
 SHAPE_CHOICES = {
-    "bowl": "Bowl — the usual laser cell",
+    "bowl": "Bowl (usual laser cell)",
     "prism": "Flat-bottomed",
     "cone": "Cone or pyramid",
 }
+SHAPE_NAMES = {"bowl": "bowl", "prism": "flat-bottomed", "cone": "cone"}
 assert {int(angle) for angle in ANGLE_CHOICES} == set(CELL_LAYOUTS)
 SCREEN_UNITS = ("lpi", "lpcm")
 LENGTH_UNITS = ("um", "mil")
@@ -160,7 +161,7 @@ def present(cell, system: str, given: str) -> dict:
         "in_band": low <= ratio <= high,
         "layout": cell.layout,
         "angle": cell.angle,
-        "shape": SHAPE_CHOICES[cell.shape].split(" — ")[0],
+        "shape": SHAPE_NAMES[cell.shape],
         "problems": [{"code": code, "message": message} for code, message in cell.problems],
         "section": section(
             cell.pitch.to("um").magnitude, cell.wall.to("um").magnitude, cell.depth.to("um").magnitude, cell.shape
