@@ -11,13 +11,13 @@ from __future__ import annotations
 import pytest
 from playwright.sync_api import expect
 
-from tests.browser.conftest import PHONE
+from tests.browser.conftest import NARROW, PHONE
 
 pytestmark = pytest.mark.browser
 
 
-def no_sideways_scroll(page):
-    assert page.evaluate("document.documentElement.scrollWidth") <= PHONE["width"]
+def no_sideways_scroll(page, width=PHONE["width"]):
+    assert page.evaluate("document.documentElement.scrollWidth") <= width
 
 
 def test_choosing_a_roll_for_a_150_lpi_process_plate(open_context, check_axe, screenshots):
@@ -38,7 +38,7 @@ def test_choosing_a_roll_for_a_150_lpi_process_plate(open_context, check_axe, sc
     drawing = page.locator("svg.fit-drawing")
     expect(drawing).to_be_visible()
     expect(drawing.locator("desc")).to_contain_text("27 µm across")
-    expect(drawing.locator("desc")).to_contain_text("can dip into a cell")
+    expect(drawing.locator("desc")).to_contain_text("can dip into it")
     # the dot is drawn smaller than one cell opening at 600 lpi (39 µm)
     dot = drawing.locator("circle.fit-dot").bounding_box()
     cell = drawing.locator("polygon.fit-cell").first.bounding_box()
@@ -103,3 +103,25 @@ def test_cell_geometry_of_an_800_lpi_bowl(open_context, check_axe, screenshots):
     expect(value).to_have_text("12")
     page.emulate_media(color_scheme="dark")
     page.screenshot(path=str(screenshots / "cell-volume-dark-phone.png"), full_page=True)
+
+
+def test_results_fit_a_360_px_phone(open_context, screenshots):
+    page = open_context(NARROW).new_page()
+    page.goto("/fit")
+    page.get_by_label("Plate screen", exact=True).fill("175")
+    page.get_by_label("Roll screen", exact=True).fill("360")
+    page.get_by_label("Screen unit").select_option("lpcm")
+    page.get_by_label("Roll volume", exact=True).fill("2.5")
+    page.get_by_label("Volume unit").select_option("cm3/m2")
+    expect(page.locator(".verdict")).to_have_text("Fits")
+    page.locator("details.working summary").click()
+    no_sideways_scroll(page, NARROW["width"])
+    page.screenshot(path=str(screenshots / "fit-metric-narrow.png"), full_page=True)
+    page.goto("/cell")
+    page.get_by_role("radio", name="Volume").check()
+    page.get_by_label("Cell volume").fill("8")
+    page.get_by_label("Screen", exact=True).fill("400")
+    expect(page.locator(".headline-label")).to_contain_text("Depth")
+    page.locator("details.working summary").click()
+    no_sideways_scroll(page, NARROW["width"])
+    page.screenshot(path=str(screenshots / "cell-narrow.png"), full_page=True)

@@ -100,7 +100,7 @@ def test_a_coarse_heavy_roll_does_not_fit_and_says_both_reasons(client):
     for problem in api["problems"]:
         assert problem["message"] in body  # the reasons are the API's messages
     assert '<svg class="fit-drawing"' in body
-    assert "The dot is smaller than one cell opening, so it can dip into a cell." in body
+    assert "The dot is narrower than one cell opening, so a dot over a cell can dip into it." in body
 
 
 def test_a_fine_light_roll_fits(client):
@@ -113,14 +113,14 @@ def test_a_fine_light_roll_fits(client):
 def test_recommendations_and_the_dot_are_stated_in_the_preferred_units(client):
     body = text(client.post("/fit", data=UNFIT_FORM, headers=HX))
     # metric: 750 lpi = 295 l/cm; 1–2.5 BCM/in² = 1.55–3.88 cm³/m² (NIST SP 811)
-    assert "<strong>295 lines/cm</strong> or finer" in body and "750 lpi" in body
+    assert '<strong class="nowrap">295 lines/cm</strong> or finer' in body and "750 lpi" in body
     assert "<strong>1.55–3.88 cm³/m²</strong>" in body and "1–2.5 BCM/in²" in body
-    assert "<strong>27 µm</strong> across" in body  # REFERENCES.md: 2 % dot at 150 lpi
+    assert '<strong class="nowrap">27 µm</strong> across' in body  # REFERENCES.md: 2 % dot at 150 lpi
     assert "common practice" in body
     client.set_cookie("inkfilm_units", "imperial")
     body = text(client.post("/fit", data=UNFIT_FORM, headers=HX))
-    assert "<strong>750 lpi</strong> or finer" in body and "<strong>1–2.5 BCM/in²</strong>" in body
-    assert "<strong>1.06 mil</strong> across" in body  # 27.02 µm / 25.4
+    assert '<strong class="nowrap">750 lpi</strong> or finer' in body and "<strong>1–2.5 BCM/in²</strong>" in body
+    assert '<strong class="nowrap">1.06 mil</strong> across' in body  # 27.02 µm / 25.4
 
 
 def test_the_drawing_is_to_scale(client):

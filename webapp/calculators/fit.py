@@ -58,11 +58,11 @@ def compute(body: dict) -> dict:
 
 # What the kinds of work are called in the form's menu.
 WORK_CHOICES = {
-    "process": "Process colour: halftones",
+    "process": "Process: halftones",
     "line": "Line work and type",
     "solid": "Spot colour solids",
     "white": "Opaque white",
-    "coating": "Varnish, coating or adhesive",
+    "coating": "Varnish, coating, adhesive",
 }
 assert tuple(WORK_CHOICES) == WORK_KINDS
 SHORT_REASONS = {
