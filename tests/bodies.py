@@ -28,12 +28,17 @@ ESTIMATE_BY_IMPRESSIONS = {
     ],
 }
 
+FIT = {"plate_screen": "150 lpi", "work": "process", "anilox_screen": "1000 lpi", "anilox_volume": "1.5 BCM/in2"}
+CELL = {"screen": "800 lpi", "wall": "3 um", "angle": 60, "shape": "bowl", "depth": "12 um"}
+
 # One valid body for every calculation endpoint, by kind.
 BY_KIND = {
     "convert": CONVERT,
     "equivalents": EQUIVALENTS,
     "film": FILM_FULL,
     "estimate": ESTIMATE,
+    "fit": FIT,
+    "cell": CELL,
 }
 
 

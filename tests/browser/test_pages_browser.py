@@ -13,7 +13,7 @@ from tests.browser.conftest import NARROW, PHONE, TABLET
 
 pytestmark = pytest.mark.browser
 
-PAGES = ["/", "/film", "/estimate", "/offline"]
+PAGES = ["/", "/film", "/estimate", "/fit", "/cell", "/offline"]
 
 
 def group_values(page, key) -> dict:

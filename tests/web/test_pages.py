@@ -19,7 +19,7 @@ HTMX = ROOT / "webapp" / "static" / "vendor" / "htmx-2.0.11.min.js"
 # sha256 of htmx.org 2.0.11's dist/htmx.min.js as published on the npm registry
 HTMX_SHA256 = "d6fdc75f204e6bdefa99b69bf1e6d4ac69b8a364f77929f45c13476b4000f717"
 HX = {"HX-Request": "true"}
-PAGES = ["/", "/film", "/estimate", "/offline"]
+PAGES = ["/", "/film", "/estimate", "/fit", "/cell", "/offline"]
 
 
 def text(response) -> str:

@@ -56,6 +56,8 @@ ANSWER_KINDS = {
     "text": {"type": "string"},
     "text or null": {"type": ["string", "null"]},
     "boolean": {"type": "boolean"},
+    "number or null": {"type": ["number", "null"]},
+    "quantity or null": {"oneOf": [{"$ref": "#/components/schemas/Quantity"}, {"type": "null"}]},
 }
 ERROR = {"$ref": "#/components/schemas/Error"}
 JSON = "application/json"
