@@ -76,3 +76,74 @@ def test_a_unit_typed_with_the_value_sets_the_menu(open_context, screenshots):
     expect(page.locator("#value-error")).to_contain_text("is not one of this field's units")
     expect(page.get_by_label("Value")).to_have_value("7 furlong")
     page.screenshot(path=str(screenshots / "floor-convert-typed-unit-error-phone.png"), full_page=True)
+
+
+def test_film_headline_stays_in_view_while_the_transfer_changes(open_context, screenshots):
+    page = open_context(KEYBOARD_UP).new_page()
+    page.goto("/film")
+    page.get_by_label("Plate to substrate %").fill("40")
+    sticky = page.locator(".film-sticky-value")
+    # t = V × T_ap × T_ps with V = 4.5 BCM/in² = 4.5 / 0.64516 µm (NIST SP 811), 50 % and 40 %
+    expect(sticky).to_have_text(f"{format_number(4.5 / 0.64516 * 0.5 * 0.4)} µm")
+    assert in_viewport(page, sticky), "the headline left the screen"
+    page.screenshot(path=str(screenshots / "floor-film-transfer-390x500.png"))
+    page.locator("details.more-inputs summary").click()
+    page.get_by_label("Solids by volume %").fill("35")  # far down the inputs
+    expect(page.locator('tr[data-key="dry"]')).to_be_attached()
+    page.get_by_label("Anilox to plate %").fill("45")
+    expect(sticky).to_have_text(f"{format_number(4.5 / 0.64516 * 0.45 * 0.4)} µm")
+    assert in_viewport(page, sticky)
+    page.get_by_label("Solids by volume %").scroll_into_view_if_needed()
+    assert in_viewport(page, sticky)
+    page.screenshot(path=str(screenshots / "floor-film-solids-390x500.png"))
+
+
+@pytest.mark.parametrize("viewport", [TABLET, {"width": 1280, "height": 800}], ids=["tablet", "desktop"])
+def test_film_inputs_sit_together_beside_the_result(open_context, viewport, screenshots):
+    page = open_context(viewport).new_page()
+    page.goto("/film")
+    volume = page.locator("#film-form").bounding_box()
+    transfer = page.locator("#film-settings").bounding_box()
+    result = page.locator("#film-result").bounding_box()
+    gap = transfer["y"] - (volume["y"] + volume["height"])
+    assert 0 <= gap <= 20, f"{gap:.0f} px between the volume card and the transfer card"
+    assert result["x"] > volume["x"] + volume["width"]  # the result beside the inputs
+    expect(page.locator("#film-headline")).to_be_hidden()  # the compact copy is for phones
+    name = "tablet" if viewport is TABLET else "desktop"
+    page.screenshot(path=str(screenshots / f"floor-film-{name}.png"), full_page=True)
+
+
+def test_units_focus_ring_goes_round_the_pill(open_context, screenshots):
+    page = open_context(PHONE).new_page()
+    page.goto("/film")
+    page.get_by_label("Anilox volume").focus()
+    page.keyboard.press("Shift+Tab")  # leave the field, then reach the units switch from the end of the page
+    page.get_by_label("Metric").focus()
+    page.keyboard.press("ArrowRight")  # a keyboard move: Imperial, focus visible
+    expect(page.get_by_label("Imperial")).to_be_focused()
+    ring = page.evaluate(
+        """() => {
+            const input = document.activeElement, label = input.closest('label');
+            const l = getComputedStyle(label), i = getComputedStyle(input);
+            return [l.outlineStyle, l.outlineWidth, i.outlineStyle];
+        }"""
+    )
+    assert ring == ["solid", "3px", "none"]
+    page.locator(".units-form").screenshot(path=str(screenshots / "floor-units-focus-phone.png"))
+
+
+def test_offline_banner_speaks_of_numbers_only_when_some_are_shown(open_context):
+    context = open_context(PHONE)
+    page = context.new_page()
+    page.goto("/")  # nothing typed: no numbers on screen
+    context.set_offline(True)
+    reach = page.locator("#reach")
+    expect(reach).to_be_visible()
+    assert "numbers on screen" not in reach.inner_text()  # what is shown, not hidden words
+    assert "when the shop network is back" in reach.inner_text()
+    context.set_offline(False)
+    page.goto("/film")  # the film chain shows its numbers at once
+    context.set_offline(True)
+    expect(reach).to_be_visible()
+    assert "The numbers on screen are from before" in reach.inner_text()
+    context.set_offline(False)

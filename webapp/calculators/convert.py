@@ -64,6 +64,12 @@ def compute_equivalents(body: dict) -> dict:
     }
 
 
+def _plain(number) -> str:
+    """A number for a link, at full precision: ``7.0`` → ``'7'``, ``4.55`` → ``'4.55'``."""
+    text = repr(float(number))
+    return text.removesuffix(".0")
+
+
 def _typed_first(groups, typed: str | None) -> list:
     """The groups with the one stating the typed unit first: the question's own card leads."""
     return sorted(groups, key=lambda group: typed not in group.units)
@@ -115,7 +121,7 @@ def present(result, system: str, typed: str | None = None, answer_in: str = "") 
             share = TYPICAL_ANILOX_TO_PLATE * TYPICAL_PLATE_TO_SUBSTRATE
             entry["substrate"] = show(by_unit["um"] * share, role_units("film", system)[0])
             entry["film_link"] = url_for(
-                "calculators.film", anilox_volume=repr(float(result.quantity.magnitude)), anilox_unit=typed
+                "calculators.film", anilox_volume=_plain(result.quantity.magnitude), anilox_unit=typed
             )
         groups.append(entry)
     return {"kind": result.kind, "answer": answer, "groups": groups, "steps": steps(working, system)}

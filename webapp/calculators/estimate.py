@@ -9,7 +9,7 @@ from calc.display import format_money, show_value
 from calc.estimate import MAX_STATIONS, Station, job_ink
 from webapp.calculators.spec import Calculator
 from webapp.common.formatting import both, steps
-from webapp.common.forms import choose, field_errors, form_values, parse_number, parse_percent, quantity_text
+from webapp.common.forms import field_errors, form_values, parse_amount, parse_number, parse_percent, quantity_text
 from webapp.common.htmx import respond
 from webapp.common.jsonapi import check_fields, quantity_json
 from webapp.common.preference import current_system
@@ -152,30 +152,25 @@ def estimate_form() -> dict:
 
 def form_body(form: dict) -> dict:
     """The ``/api/v1/estimate`` request body for the estimate form."""
-    width = parse_number(form["web_width"], "web_width")
-    body: dict = {"web_width": quantity_text(width, choose(form["web_width_unit"], WIDTH_UNITS, "web_width_unit"))}
+    body: dict = {"web_width": quantity_text(*parse_amount(form, "web_width", "web_width_unit", WIDTH_UNITS))}
     if form["run_basis"] == "impressions":
         impressions = parse_number(form["impressions"], "impressions")
         body["impressions"] = int(impressions) if impressions.is_integer() else impressions
-        repeat = parse_number(form["repeat"], "repeat")
-        body["repeat"] = quantity_text(repeat, choose(form["repeat_unit"], REPEAT_UNITS, "repeat_unit"))
+        body["repeat"] = quantity_text(*parse_amount(form, "repeat", "repeat_unit", REPEAT_UNITS))
     else:
-        length = parse_number(form["run_length"], "run_length")
-        body["run_length"] = quantity_text(length, choose(form["run_length_unit"], RUN_UNITS, "run_length_unit"))
+        body["run_length"] = quantity_text(*parse_amount(form, "run_length", "run_length_unit", RUN_UNITS))
     body["waste"] = parse_percent(form["waste"], "waste", required=False) or 0.0
     body["stations"] = []
     for index, station in enumerate(form["stations"]):
         where = f"stations[{index}]."
-        volume = parse_number(station["anilox_volume"], where + "anilox_volume")
-        density = parse_number(station["ink_density"], where + "ink_density")
+        volume = parse_amount(station, "anilox_volume", "anilox_unit", ANILOX_UNITS, prefix=where, record=form)
+        density = parse_amount(station, "ink_density", "ink_density_unit", DENSITY_UNITS, prefix=where, record=form)
         item = {
             "name": station["name"],
-            "anilox_volume": quantity_text(volume, choose(station["anilox_unit"], ANILOX_UNITS, where + "anilox_unit")),
+            "anilox_volume": quantity_text(*volume),
             "coverage": parse_percent(station["coverage"], where + "coverage"),
             "transfer": parse_percent(station["transfer"], where + "transfer"),
-            "ink_density": quantity_text(
-                density, choose(station["ink_density_unit"], DENSITY_UNITS, where + "ink_density_unit")
-            ),
+            "ink_density": quantity_text(*density),
         }
         price = parse_number(station["price_per_kg"], where + "price_per_kg", required=False)
         if price is not None:

@@ -134,32 +134,41 @@ def _menu_unit(unit_text: str, allowed, field: str | None) -> str:
     raise InputError(field, f"'{unit_text}' is not one of this field's units: pick one from the unit list")
 
 
-def parse_amount(form: dict, field: str, unit_field: str, allowed, *, required: bool = True):
+def parse_amount(
+    form: dict, field: str, unit_field: str, allowed, *, required: bool = True, prefix: str = "", record=None
+):
     """``(number, unit)`` from a quantity field and its unit menu, or None for an empty optional field.
 
     The text may carry its unit (``4.5 bcm``, ``4,5 BCM/in²``, ``7 cm3/m2``):
     the unit is read with :func:`calc.units.parse_unit` (the one door for
     unit text), must be one the menu offers (``allowed``: menu spellings),
     and then stands for the menu's choice: ``form[unit_field]`` is set to it
-    and, when ``form`` is a :class:`FormValues`, recorded in ``typed_units``
-    so that the page shows the menu changed. A unit the menu does not offer
-    is an :class:`InputError` naming ``field`` (the message goes beside the
-    text that has the unit). Without a unit in the text, the menu's unit is used.
+    and recorded in the ``typed_units`` of ``record`` (default: ``form``, when
+    it is a :class:`FormValues`) so that the page shows the menu changed. A
+    unit the menu does not offer is an :class:`InputError` naming ``field``
+    (the message goes beside the text that has the unit). Without a unit in
+    the text, the menu's unit is used. ``prefix`` goes before the field names
+    in messages and records (``stations[0].`` for a station of the estimate).
+
+    >>> form = FormValues(value="4,5 BCM/in²", unit="mil")
+    >>> parse_amount(form, "value", "unit", ("BCM/in2", "cm3/m2", "mil")), form["unit"], form.typed_units
+    ((4.5, 'BCM/in2'), 'BCM/in2', {'unit': 'BCM/in2'})
     """
     text = form.get(field)
+    record = form if record is None else record
     match = _LEADING_NUMBER.match(text) if isinstance(text, str) else None
     if match and match.group(2):
         number_text, unit_text = match.groups()
-        value = parse_number(number_text, field, required=True)
-        unit = _menu_unit(unit_text, allowed, field)
+        value = parse_number(number_text, prefix + field, required=True)
+        unit = _menu_unit(unit_text, allowed, prefix + field)
         form[unit_field] = unit
-        if isinstance(form, FormValues):
-            form.typed_units[unit_field] = unit
+        if isinstance(record, FormValues):
+            record.typed_units[prefix + unit_field] = unit
         return value, unit
-    value = parse_number(text, field, required=required)
+    value = parse_number(text, prefix + field, required=required)
     if value is None:
         return None
-    return value, choose(form.get(unit_field), allowed, unit_field)
+    return value, choose(form.get(unit_field), allowed, prefix + unit_field)
 
 
 def parse_percent(text, field: str | None, *, required: bool = True) -> float | None:
