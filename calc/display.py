@@ -191,7 +191,8 @@ def show_value(value, system: str) -> str:
     """A value from the working as people read it, in the user's preferred units.
 
     Shares show as percentages; quantities the core computed (µm, g/m², m², …)
-    in the preferred unit for their role; quantities as typed in their own unit.
+    in the preferred unit for their role; quantities as typed in their own unit;
+    a value already :class:`Shown` in a chosen unit (a conversion step) as it is.
 
     >>> show_value(0.5, "metric")
     '50 %'
@@ -202,6 +203,8 @@ def show_value(value, system: str) -> str:
     >>> show_value(Count(16667), "metric"), show_value(Money(12.5), "metric")
     ('16,667', '12.50')
     """
+    if isinstance(value, Shown):
+        return str(value)
     if isinstance(value, Count):
         return f"{value:,}"
     if isinstance(value, Money):

@@ -15,6 +15,7 @@ from __future__ import annotations
 
 from dataclasses import dataclass, field
 
+from calc.display import show, unit_label
 from calc.errors import InputError
 from calc.steps import Step, Working
 from calc.units import (
@@ -46,6 +47,55 @@ AREA_UNITS = ("m2", "ft2", "MSI", "in2")
 VOLUME_UNITS = ("l", "ml", "gal", "in3")
 MASS_UNITS = ("kg", "g", "lb", "oz")
 DENSITY_UNITS = ("g/cm3", "kg/l", "lb/gal")
+
+# The other system's unit for each unit an operator types: what the quick
+# converters lead with (cm³/m² typed asks for BCM/in², mil for µm, lpi for lines/cm).
+COUNTERPARTS = {
+    "BCM/in2": "cm3/m2",
+    "cm3/m2": "BCM/in2",
+    "um": "mil",
+    "mil": "um",
+    "mm": "in",
+    "in": "mm",
+    "lpi": "lpcm",
+    "lpcm": "lpi",
+    "g/m2": "lb/ream",
+    "lb/ream": "g/m2",
+    "m2/kg": "ft2/lb",
+    "ft2/lb": "m2/kg",
+    "MSI/lb": "m2/kg",
+    "m2": "ft2",
+    "ft2": "m2",
+    "MSI": "m2",
+    "in2": "m2",
+    "l": "gal",
+    "ml": "gal",
+    "gal": "l",
+    "in3": "ml",
+    "kg": "lb",
+    "g": "oz",
+    "lb": "kg",
+    "oz": "g",
+    "g/cm3": "lb/gal",
+    "kg/l": "lb/gal",
+    "lb/gal": "g/cm3",
+}
+
+# What the film of a volume per area is: the cells' whole content spread flat.
+EMPTIED_NOTE = "if the cells emptied completely"
+
+# Symbols for the working, by kind of value (a volume per area is ``V`` like a volume).
+SYMBOLS = {
+    "volume_per_area": "V",
+    "film": "t",
+    "line_screen": "S",
+    "coat_weight": "w",
+    "mileage": "M",
+    "area": "A",
+    "volume": "V",
+    "mass": "m",
+    "density": "ρ",
+}
 
 TITLES = {
     "volume_per_area": "Volume per area",
@@ -131,6 +181,77 @@ def _is_volume_per_area(quantity) -> bool:
     return any(quantity.units == Q_(1.0, unit).units for unit in VOLUME_PER_AREA_UNITS)
 
 
+def typed_spelling(quantity) -> str | None:
+    """The API spelling of the unit ``quantity`` was typed in, if it is one the converters list.
+
+    >>> typed_spelling(Q_(0.6, "mil")), typed_spelling(Q_(7, "cm³/m²")), typed_spelling(Q_(1, "furlong"))
+    ('mil', 'cm3/m2', None)
+    """
+    for spelling in COUNTERPARTS:
+        if quantity.units == Q_(1.0, spelling).units:
+            return spelling
+    return None
+
+
+def factor_text(factor: float, significant: int = 8) -> str:
+    """A conversion factor to ``significant`` figures, its decimals in groups of three.
+
+    The groups are parted by a narrow no-break space (as the SI Brochure
+    parts digits), so that the factor never breaks across lines.
+
+    >>> factor_text(1 / 0.64516).replace("\u202f", " ")
+    '1.550 003 1'
+    >>> factor_text(25.4), factor_text(1000.0)
+    ('25.4', '1,000')
+    """
+    text = f"{factor:.{significant}g}"
+    if "e" in text:
+        return text
+    whole, _, fraction = text.partition(".")
+    fraction = fraction.rstrip("0")
+    grouped = "\u202f".join(fraction[index : index + 3] for index in range(0, len(fraction), 3))
+    return f"{int(whole):,}" + (f".{grouped}" if grouped else "")
+
+
+def conversion_step(quantity, from_spelling: str, to_spelling: str, symbol: str = "x") -> Step:
+    """The working for stating ``quantity`` (typed in ``from_spelling``) in ``to_spelling``.
+
+    The factor is written to eight significant figures, multiplied when it is
+    one or more and divided by its reciprocal otherwise (``÷ 1.550 003 1``
+    rather than ``× 0.645 16``, so that the step reads as the other side of
+    the same statement); the result itself is worked out exactly by pint.
+
+    >>> step = conversion_step(Q_(7, "cm3/m2"), "cm3/m2", "BCM/in2", "V")
+    >>> step.formula.replace("\u202f", " ")
+    'V in BCM/in² = V in cm³/m² ÷ 1.550 003 1  (1 BCM/in² = 1.550 003 1 cm³/m², as 1 in = 25.4 mm exactly)'
+    >>> str(step.result)
+    '4.52 BCM/in²'
+
+    References
+    ----------
+    NIST Special Publication 811 (2008), Appendix B: 1 in = 25.4 mm exactly,
+    1 lb = 0.453 592 37 kg exactly; NIST Handbook 44, Appendix C: 1 US gal = 231 in³.
+    """
+    factor = float(Q_(1.0, from_spelling).to(to_spelling).magnitude)
+    source, target = unit_label(from_spelling), unit_label(to_spelling)
+    if factor >= 1.0:
+        operation, shown = "×", factor_text(factor)
+        because = f"1 {source} = {shown} {target}"
+    else:
+        operation, shown = "÷", factor_text(1.0 / factor)
+        because = f"1 {target} = {shown} {source}"
+    inch = {"BCM/in2", "mil", "in", "lpi", "in2", "in3", "MSI", "MSI/lb", "ft2", "ft2/lb", "lb/ream", "gal"}
+    if {from_spelling, to_spelling} & inch and not {from_spelling, to_spelling} <= inch:
+        because += ", as 1 in = 25.4 mm exactly"
+    return Step(
+        f"In {target}",
+        symbol,
+        f"{symbol} in {target} = {symbol} in {source} {operation} {shown}  ({because})",
+        ((symbol, show(quantity, from_spelling)),),
+        show(quantity, to_spelling),
+    )
+
+
 def equivalents(quantity, density=None, coverage: float | None = None) -> Equivalents:
     """Every useful equivalent of ``quantity``, grouped by what it means.
 
@@ -180,13 +301,19 @@ def equivalents(quantity, density=None, coverage: float | None = None) -> Equiva
 
     work = Working()
     groups: list[Group] = []
+    spelling = typed_spelling(quantity)
+    if spelling is not None:  # first the step the user asked about: the other system's unit
+        symbol = SYMBOLS["volume_per_area" if _is_volume_per_area(quantity) else kind]
+        work.steps.append(conversion_step(quantity, spelling, COUNTERPARTS[spelling], symbol))
     if kind == "film":
         film = quantity.to("um")
+        anilox = _is_volume_per_area(quantity)
         groups.append(_group("volume_per_area", quantity, VOLUME_PER_AREA_UNITS))
-        groups.append(_group("film_thickness", quantity, FILM_UNITS))
-        if not _is_volume_per_area(quantity):  # mm and inches suit a typed thickness, not an anilox
+        groups.append(_group("film_thickness", quantity, FILM_UNITS, EMPTIED_NOTE if anilox else None))
+        if not anilox:  # mm and inches suit a typed thickness, not an anilox
             groups.append(_group("thickness_other", quantity, THICKNESS_OTHER_UNITS))
-        work.add("Film thickness", "t", "t = V  (1 cm³/m² spreads to 1 µm)", {"V": quantity}, film)
+        label = "Film thickness, " + EMPTIED_NOTE if anilox else "Film thickness"
+        work.add(label, "t", "t = V  (1 cm³/m² spreads to 1 µm)", {"V": quantity}, film)
         if rho is not None:
             weight = Q_(film.magnitude * rho.to("g/cm3").magnitude, "g/m2")
             work.add("Coat weight of this film", "w", "w = t × ρ", {"t": film, "ρ": rho}, weight)

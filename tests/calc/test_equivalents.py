@@ -87,7 +87,8 @@ def test_volume_and_mass_with_density():
 def test_area_with_coverage_gives_inked_area():
     result = equivalents("1000 m2", coverage=0.35)
     assert values(result, "inked_area")["m2"] == pytest.approx(350.0)
-    assert [step.symbol for step in result.steps] == ["A_ink"]
+    # first the typed area in the other system's unit, then the inked area
+    assert [step.symbol for step in result.steps] == ["A", "A_ink"]
 
 
 def test_inputs_that_do_not_apply_are_ignored():
@@ -224,3 +225,47 @@ def test_film_layers_to_scale_and_ordered():
     layers = film_layers(films, "um", tallest=140, baseline=170)
     assert [layer.height for layer in layers] == [140.0, 70.0, 35.0, 1.0]  # the thinnest stays visible
     assert [layer.y for layer in layers] == [30.0, 100.0, 135.0, 169.0]
+
+
+# --- the working shows the conversion the user asked about ------------------------
+
+
+def plain(text: str) -> str:
+    return text.replace("\u202f", " ")
+
+
+@pytest.mark.parametrize(
+    ("typed", "formula", "result"),
+    [
+        # NIST SP 811 Appendix B: 1 in = 25.4 mm exactly, so 1 BCM/in² = 1 mm³ / 645.16 mm²
+        # = 1/0.64516 cm³/m² = 1.550 003 1 cm³/m² to eight figures.
+        ("7 cm3/m2", "V in BCM/in² = V in cm³/m² ÷ 1.550 003 1", "4.52 BCM/in²"),
+        ("4.5 BCM/in2", "V in cm³/m² = V in BCM/in² × 1.550 003 1", "6.98 cm³/m²"),
+        # NIST SP 811: 1 mil = 0.001 in = 25.4 µm exactly
+        ("0.6 mil", "t in µm = t in mil × 25.4", "15.2 µm"),
+        ("10 um", "t in mil = t in µm ÷ 25.4", "0.394 mil"),
+        # NIST SP 811: 1 in = 2.54 cm exactly
+        ("800 lpi", "S in lines/cm = S in lpi ÷ 2.54", "315 lines/cm"),
+    ],
+)
+def test_the_first_step_is_the_other_systems_unit(typed, formula, result):
+    step = equivalents(typed).steps[0]
+    assert plain(step.formula).startswith(formula)
+    assert str(step.result) == result
+
+
+def test_the_bcm_factor_is_the_exact_definition_to_eight_figures():
+    from calc.equivalents import conversion_step, factor_text
+
+    # NIST SP 811 Appendix B: 1 in = 25.4 mm exactly; 1 BCM = 1 mm³; so the factor is 1/0.64516
+    assert plain(factor_text(1 / 0.64516)) == "1.550 003 1"
+    step = conversion_step(Q_(1, "BCM/in2"), "BCM/in2", "cm3/m2", "V")
+    assert "as 1 in = 25.4 mm exactly" in step.formula
+    assert step.result.value == pytest.approx(1 / 0.64516, rel=1e-15)
+
+
+def test_an_anilox_volume_read_as_a_film_says_the_cells_emptied():
+    result = equivalents("4.5 BCM/in2")
+    assert result.group("film_thickness").note == "if the cells emptied completely"
+    assert "if the cells emptied completely" in result.steps[1].label
+    assert equivalents("0.6 mil").group("film_thickness").note is None  # a typed film is a film

@@ -30,7 +30,15 @@ from calc.film import ANILOX_VOLUME_HIGH
 from calc.units import DENSITY_HIGH, DENSITY_LOW
 from webapp.calculators.spec import Answer, Calculator
 from webapp.common.formatting import both, steps
-from webapp.common.forms import choose, field_errors, form_values, parse_number, parse_percent, quantity_text
+from webapp.common.forms import (
+    choose,
+    field_errors,
+    form_values,
+    parse_amount,
+    parse_number,
+    parse_percent,
+    quantity_text,
+)
 from webapp.common.htmx import is_htmx, respond
 from webapp.common.jsonapi import check_fields, quantity_json
 from webapp.common.preference import current_system
@@ -529,12 +537,13 @@ def _count(text, field: str, *, required: bool = True):
     return int(value) if value.is_integer() else value
 
 
-def _quantity(form: dict, name: str, units, *, required: bool = True, unit_field: str | None = None):
-    value = parse_number(form[name], name, required=required)
-    if value is None:
-        return None
+def _quantity(
+    form: dict, name: str, units, *, required: bool = True, unit_field: str | None = None, prefix="", record=None
+):
+    """A quantity field and its unit menu as API text; a unit typed with the number sets the menu."""
     unit_field = unit_field or f"{name}_unit"
-    return quantity_text(value, choose(form[unit_field], units, unit_field))
+    amount = parse_amount(form, name, unit_field, units, required=required, prefix=prefix, record=record)
+    return None if amount is None else quantity_text(*amount)
 
 
 def form_body(form: dict) -> dict:
@@ -561,18 +570,16 @@ def form_body(form: dict) -> dict:
     body["stations"] = []
     for index, station in enumerate(form["stations"]):
         where = f"stations[{index}]."
-        typed = {where + key: value for key, value in station.items()}
+        mine = {"prefix": where, "record": form}
         item = {
             "name": station["name"],
-            "anilox_volume": _quantity(typed, where + "anilox_volume", ANILOX_UNITS, unit_field=where + "anilox_unit"),
+            "anilox_volume": _quantity(station, "anilox_volume", ANILOX_UNITS, unit_field="anilox_unit", **mine),
             "coverage": parse_percent(station["coverage"], where + "coverage"),
             "transfer": parse_percent(station["transfer"], where + "transfer"),
-            "ink_density": _quantity(
-                typed, where + "ink_density", DENSITY_UNITS, unit_field=where + "ink_density_unit"
-            ),
+            "ink_density": _quantity(station, "ink_density", DENSITY_UNITS, unit_field="ink_density_unit", **mine),
         }
         for key, units in (("fill", FILL_UNITS), ("on_hand", ON_HAND_UNITS)):
-            value = _quantity(typed, where + key, units, required=False)
+            value = _quantity(station, key, units, required=False, **mine)
             if value is not None:
                 item[key] = value
         price = parse_number(station["price_per_kg"], where + "price_per_kg", required=False)

@@ -4,13 +4,15 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 
+from flask import request
+
 from calc import InputError
 from calc.display import Shown, format_percent, role_units, show
 from calc.film import ANILOX_VOLUME_HIGH, TYPICAL_ANILOX_TO_PLATE, TYPICAL_PLATE_TO_SUBSTRATE, film_chain
 from calc.units import DENSITY_HIGH, DENSITY_LOW, Q_  # noqa: F401 (Q_ for the doctests)
 from webapp.calculators.spec import Answer, Calculator
 from webapp.common.formatting import both, steps
-from webapp.common.forms import choose, field_errors, form_values, parse_number, parse_percent, quantity_text
+from webapp.common.forms import field_errors, form_values, parse_amount, parse_percent, quantity_text
 from webapp.common.htmx import respond
 from webapp.common.jsonapi import check_fields, quantity_json
 from webapp.common.preference import current_system
@@ -136,17 +138,18 @@ DEFAULTS = {
 
 
 def form_body(form: dict) -> dict:
-    """The ``/api/v1/film`` request body for the film chain form."""
-    volume = parse_number(form["anilox_volume"], "anilox_volume")
+    """The ``/api/v1/film`` request body for the film chain form.
+
+    A quantity field may carry its unit (``4.5 bcm``, ``7 cm3/m2``): the unit menu is then set from it.
+    """
     body: dict = {
-        "anilox_volume": quantity_text(volume, choose(form["anilox_unit"], ANILOX_UNITS, "anilox_unit")),
+        "anilox_volume": quantity_text(*parse_amount(form, "anilox_volume", "anilox_unit", ANILOX_UNITS)),
         "anilox_to_plate": parse_percent(form["anilox_to_plate"], "anilox_to_plate"),
         "plate_to_substrate": parse_percent(form["plate_to_substrate"], "plate_to_substrate"),
     }
-    density = parse_number(form["ink_density"], "ink_density", required=False)
+    density = parse_amount(form, "ink_density", "ink_density_unit", DENSITY_UNITS, required=False)
     if density is not None:
-        unit = choose(form["ink_density_unit"], DENSITY_UNITS, "ink_density_unit")
-        body["ink_density"] = quantity_text(density, unit)
+        body["ink_density"] = quantity_text(*density)
     for share in ("solids_by_volume", "solids_by_weight"):
         value = parse_percent(form[share], share, required=False)
         if value is not None:
@@ -154,8 +157,15 @@ def form_body(form: dict) -> dict:
     return body
 
 
+# A link may open the page with an anilox volume filled in (the converter's
+# "Work it out on Film chain"): ``/film?anilox_volume=7&anilox_unit=cm3/m2``.
+LINKED = ("anilox_volume", "anilox_unit")
+
+
 def page():
     form = form_values(DEFAULTS)
+    if request.method == "GET":
+        form.update({key: request.args[key] for key in LINKED if isinstance(request.args.get(key), str)})
     context = {
         "form": form,
         "errors": {},
@@ -163,6 +173,8 @@ def page():
         "snippet_kind": "film",
         "typical_to_plate": DEFAULTS["anilox_to_plate"],
         "typical_to_substrate": DEFAULTS["plate_to_substrate"],
+        "anilox_units": ANILOX_UNITS,
+        "density_units": DENSITY_UNITS,
     }
     try:
         body = form_body(form)

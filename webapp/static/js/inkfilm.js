@@ -53,9 +53,66 @@
     });
   });
 
+  // --- A unit typed with a value sets the unit menu ----------------------------
+  // The result fragment names each menu it read a typed unit for ("4.5 bcm").
+  function setMenus(root) {
+    root.querySelectorAll("[data-set-menu]").forEach(function (marker) {
+      var menu = document.getElementById(marker.getAttribute("data-set-menu"));
+      if (menu && menu.value !== marker.getAttribute("data-value")) menu.value = marker.getAttribute("data-value");
+    });
+  }
+  document.body.addEventListener("htmx:afterSwap", function (event) { setMenus(event.detail.target); });
+  // Picking a unit from the menu takes over from a unit typed in the field: the text keeps its number.
+  var LEADING_NUMBER = /^\s*([+-]?(?:\d[\d.,]*|[.,]\d+)(?:[ \u00a0\u202f]\d{3}(?![\d.,]))*(?:[.,]\d+)?(?:[eE][+-]?\d+)?)\s*(?![eE][+-]?\d)[^\d\s.,]/;
+  document.body.addEventListener("change", function (event) {
+    var menu = event.target;
+    if (!menu.matches || !menu.matches("select[data-amount-for]")) return;
+    var field = document.getElementById(menu.getAttribute("data-amount-for"));
+    var match = field && field.value.match(LEADING_NUMBER);
+    if (match) field.value = match[1];
+  });
+
+  // --- Choices remembered on this device (the converter's "answer in") -----------
+  function cookieValue(name) {
+    var match = document.cookie.match(new RegExp("(?:^|;\\s*)" + name + "=([^;]*)"));
+    return match ? decodeURIComponent(match[1]) : null;
+  }
+  document.querySelectorAll("select[data-remember]").forEach(function (menu) {
+    var name = menu.getAttribute("data-remember");
+    var saved = cookieValue(name);
+    if (saved === null) { try { saved = window.localStorage.getItem(name); } catch (e) { saved = null; } }
+    var offered = saved !== null && [].some.call(menu.options, function (option) { return option.value === saved; });
+    if (offered) {
+      document.cookie = name + "=" + encodeURIComponent(saved) + "; path=/; max-age=31536000; samesite=lax";
+      if (menu.value !== saved) {  // a page from the cache, drawn before the choice: ask again
+        menu.value = saved;
+        if (menu.form) document.addEventListener("htmx:load", function once() {
+          document.removeEventListener("htmx:load", once);
+          refreshResults();
+        });
+      }
+    }
+    menu.addEventListener("change", function () {
+      document.cookie = name + "=" + encodeURIComponent(menu.value) + "; path=/; max-age=31536000; samesite=lax";
+      try { window.localStorage.setItem(name, menu.value); } catch (e) { /* private mode */ }
+    });
+  });
+
   // --- Server out of reach ------------------------------------------------------
+  // The banner says the numbers on screen are from before only when there are some.
+  function resultShown() {
+    return [].some.call(document.querySelectorAll(".result"), function (result) {
+      return result.querySelector("data, .headline") !== null;
+    });
+  }
   function showReach(target) {
-    if (reach) reach.hidden = false;
+    if (reach) {
+      var shown = resultShown();
+      reach.querySelectorAll("[data-reach-when]").forEach(function (part) {
+        part.hidden = part.getAttribute("data-reach-when") !== (shown ? "result" : "none");
+      });
+      reach.hidden = false;
+    }
     if (target) target.classList.add("is-stale");
   }
   function hideReach() {
