@@ -11,13 +11,14 @@ from __future__ import annotations
 
 from flask import Blueprint, jsonify
 
-from webapp.calculators import convert, estimate, film
+from webapp.calculators import convert, density, estimate, film
 from webapp.calculators.spec import Calculator
 from webapp.common.formatting import shown
 from webapp.common.jsonapi import api, request_body
 
 # In nav order; API-only calculations (no path) last.
 CALCULATORS: tuple[Calculator, ...] = (convert.EQUIVALENTS, film.FILM, estimate.ESTIMATE, convert.CONVERT)
+CALCULATORS += density.SPECS  # Ink strength: its page, then its API-only answers
 
 BY_KIND = {spec.kind: spec for spec in CALCULATORS}
 CALCULATIONS = {spec.kind: spec.compute for spec in CALCULATORS}
