@@ -88,6 +88,12 @@ def curve_of(body: dict):
         if name not in parameters:
             raise InputError(name, "is required with a fit's parameters (or give the readings)")
     parameters.pop("residual_sd", None)  # a fit reports it; the answers do not need it
+    for name in ("m", "m_se"):  # as a fit answers them, {"value", "unit"}, or as text
+        value = parameters.get(name)
+        if isinstance(value, dict) and set(value) == {"value", "unit"} and isinstance(value["unit"], str):
+            if isinstance(value["value"], bool) or not isinstance(value["value"], int | float):
+                raise InputError(name, "its value must be a number")
+            parameters[name] = f"{float(value['value'])!r} {value['unit']}"
     return curve_from_parameters(**parameters)
 
 
