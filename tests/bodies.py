@@ -31,6 +31,19 @@ ESTIMATE_BY_IMPRESSIONS = {
 FIT = {"plate_screen": "150 lpi", "work": "process", "anilox_screen": "1000 lpi", "anilox_volume": "1.5 BCM/in2"}
 CELL = {"screen": "800 lpi", "wall": "3 um", "angle": 60, "shape": "bowl", "depth": "12 um"}
 
+# Six solid-density readings on one stock (invented, following a Tollenaar–Ernst curve).
+READINGS = [
+    {"film": f"{film} um", "density": density}
+    for film, density in ((1, 0.8), (2, 1.15), (3, 1.33), (4, 1.43), (6, 1.52), (8, 1.56))
+]
+READINGS_BY_VOLUME = [
+    {"anilox_volume": f"{film * 4} cm3/m2", "transfer": 0.25, "density": density}
+    for film, density in ((1, 0.8), (2, 1.15), (3, 1.33), (4, 1.43), (6, 1.52), (8, 1.56))
+]
+DENSITY_FIT = {"readings": READINGS}
+DENSITY_VOLUME_FOR = {"readings": READINGS, "target_density": 1.3, "transfer": 0.25}
+DENSITY_FROM = {"readings": READINGS, "anilox_volume": "4 BCM/in2", "transfer": 0.25}
+
 # One valid body for every calculation endpoint, by kind.
 BY_KIND = {
     "convert": CONVERT,
@@ -39,6 +52,9 @@ BY_KIND = {
     "estimate": ESTIMATE,
     "fit": FIT,
     "cell": CELL,
+    "density_fit": DENSITY_FIT,
+    "density_volume_for": DENSITY_VOLUME_FOR,
+    "density_from": DENSITY_FROM,
 }
 
 

@@ -18,12 +18,18 @@ import json
 
 import pytest
 
-from tests.bodies import BY_KIND, ESTIMATE_BY_IMPRESSIONS
+from tests.bodies import BY_KIND, ESTIMATE_BY_IMPRESSIONS, READINGS_BY_VOLUME
 from webapp import create_app
 from webapp.calculators import CALCULATORS
 
 # Valid bodies beyond BY_KIND, for the fields BY_KIND's body leaves out.
-OTHER_BODIES = {"estimate": [ESTIMATE_BY_IMPRESSIONS]}
+OTHER_BODIES = {
+    "estimate": [ESTIMATE_BY_IMPRESSIONS],
+    # readings given as volume and transfer instead of film
+    "density_fit": [{"readings": READINGS_BY_VOLUME}],
+    "density_volume_for": [{"readings": READINGS_BY_VOLUME, "target_density": 1.3, "transfer": 0.25}],
+    "density_from": [{"readings": READINGS_BY_VOLUME, "film": "4 um"}],
+}
 HUGE_INTEGER = "HUGE-INTEGER"  # written into the JSON text as 400 digits (json.dumps cannot make one from a float)
 SUBSTITUTES = {
     "text": "abc",
@@ -98,10 +104,24 @@ def within(inner: str, outer: str) -> bool:
     return inner == outer or inner.startswith(outer + ".") or inner.startswith(outer + "[")
 
 
+# Fields that stand in for each other: a film, or an anilox volume with its transfer share. An
+# error about one of them may name the one of the group the message asks for instead.
+ALTERNATIVES = ({"film", "anilox_volume", "transfer"},)
+
+
+def _alternatives(field: str, path: str) -> bool:
+    parent, _, name = path.rpartition(".")
+    other_parent, _, other = field.rpartition(".")
+    return parent == other_parent and any({name, other} <= group for group in ALTERNATIVES)
+
+
 def names_it(field: str | None, path: str) -> bool:
-    """``field`` is ``path``, a parent of it (``stations`` for ``stations[0].name``), or a part of
-    the value put there (``stations[0]`` when ``stations`` is ``[1, "a"]``)."""
-    return field is not None and (within(path, field) or within(field, path))
+    """``field`` is ``path``, a parent of it (``stations`` for ``stations[0].name``), a part of
+    the value put there (``stations[0]`` when ``stations`` is ``[1, "a"]``), or a field that
+    stands in for it (``ALTERNATIVES``)."""
+    if field is None:
+        return False
+    return within(path, field) or within(field, path) or _alternatives(field, path)
 
 
 @pytest.mark.parametrize(("kind", "path"), CASES)

@@ -11,7 +11,7 @@ from __future__ import annotations
 
 from flask import Blueprint, jsonify
 
-from webapp.calculators import cell, convert, estimate, film, fit
+from webapp.calculators import cell, convert, density, estimate, film, fit
 from webapp.calculators.spec import Calculator
 from webapp.common.formatting import shown
 from webapp.common.jsonapi import api, request_body
@@ -23,6 +23,7 @@ CALCULATORS: tuple[Calculator, ...] = (
     estimate.ESTIMATE,
     fit.FIT,
     cell.CELL,
+    *density.SPECS,  # Ink strength: its page, then its API-only answers
     convert.CONVERT,
 )
 

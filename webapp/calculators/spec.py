@@ -63,6 +63,8 @@ class Calculator:
     shares: frozenset[str] = field(default_factory=frozenset)
     money: frozenset[str] = field(default_factory=frozenset)
     main_input: str | None = None
+    # Another address under /api/v1 that serves the same calculation (e.g. "/density/fit").
+    also_at: str | None = None
     required: Mapping[str, str] = field(default_factory=dict)
     optional: Mapping[str, str] = field(default_factory=dict)
     nested: Mapping[str, tuple[Mapping[str, str], Mapping[str, str]]] = field(default_factory=dict)

@@ -58,6 +58,7 @@ ANSWER_KINDS = {
     "boolean": {"type": "boolean"},
     "number or null": {"type": ["number", "null"]},
     "quantity or null": {"oneOf": [{"$ref": "#/components/schemas/Quantity"}, {"type": "null"}]},
+    "any": {},
 }
 ERROR = {"$ref": "#/components/schemas/Error"}
 JSON = "application/json"
@@ -163,12 +164,12 @@ SNIPPET_ID = {"name": "snippet_id", "in": "path", "required": True, "schema": {"
 # --- the calculations --------------------------------------------------------------------------------
 
 
-def calculation(spec: Calculator) -> dict:
+def calculation(spec: Calculator, operation: str | None = None) -> dict:
     body = request_object(spec.required, spec.optional, nested=spec.nested, limits=spec.limits)
     answer = answer_schema(spec.answer) if spec.answer is not None else {"type": "object"}
     return {
         "post": {
-            "operationId": f"calculate_{spec.kind}",
+            "operationId": (operation or f"calculate_{spec.kind}").replace("/", "_").replace("-", "_"),
             "summary": spec.title,
             "tags": ["calculations"],
             "requestBody": {"required": True, "content": {JSON: {"schema": body}}},
@@ -439,6 +440,10 @@ EXPORT = {
 def description() -> dict:
     """The OpenAPI 3.1 document of ``/api/v1`` (paths relative to the server ``/api/v1``)."""
     paths = {f"/{spec.kind}": calculation(spec) for spec in CALCULATORS}
+    # A calculation also served under a name people read (e.g. /density/fit).
+    for spec in CALCULATORS:
+        if spec.also_at:
+            paths[spec.also_at] = calculation(spec, operation=f"calculate_{spec.kind}_at_{spec.also_at.strip('/')}")
     paths |= snippet_paths()
     paths["/openapi.json"] = {
         "get": {
