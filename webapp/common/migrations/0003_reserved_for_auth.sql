@@ -1,0 +1,3 @@
+-- Placeholder on the register branch only: the auth branch ships its own 0003.
+-- Delete this file when merging the register branch after it (the rolls
+-- schema is 0004, next); it changes nothing in a database.
