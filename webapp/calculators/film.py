@@ -4,6 +4,8 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 
+from flask import request
+
 from calc import InputError
 from calc.display import Shown, format_percent, role_units, show
 from calc.film import TYPICAL_ANILOX_TO_PLATE, TYPICAL_PLATE_TO_SUBSTRATE, film_chain
@@ -148,6 +150,10 @@ def form_body(form: dict) -> dict:
 
 def page():
     form = form_values(DEFAULTS)
+    if request.method == "GET":
+        # A link may fill the form (the roll register's "film chain with this roll"); the values are
+        # checked like typed ones.
+        form.update({key: value[:40] for key, value in request.args.items() if key in DEFAULTS})
     context = {
         "form": form,
         "errors": {},
