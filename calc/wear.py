@@ -368,7 +368,10 @@ def wear_picture(
                     f"({v0:.3g} BCM/in²); more than ±{off_spec:.0%}",
                 )
             )
-    cleaned_since = latest is not None and any(day >= latest.on for day in cleaned)
+    # A cleaning on the day of an after-cleaning reading is the one that reading followed.
+    cleaned_since = latest is not None and any(
+        day > latest.on or (day == latest.on and latest.condition == "as_found") for day in cleaned
+    )
     if latest is not None and latest.condition == "as_found" and not cleaned_since:
         volume = _bcm(latest.volume)
         if plugging is not None and plugging >= clean_plugging * (1 - 1e-9):

@@ -125,6 +125,10 @@ def serve_command(args) -> int:
         added = demo.fill(data_dir)
         if added:
             print(f"inkfilm: filled {data_dir} with {added} snippets of the demo shop", flush=True)
+        from webapp.rolls import demo as roll_demo
+
+        if rolls_added := roll_demo.fill(data_dir):
+            print(f"inkfilm: filled {data_dir} with {rolls_added} anilox rolls of the demo shop", flush=True)
     try:
         app = create_app(config)
     except NewerDatabaseError as exc:

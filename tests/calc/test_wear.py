@@ -253,3 +253,9 @@ def test_readings_may_be_given_as_reading_objects_or_dicts():
         today=on(10),
     )
     assert a == b
+
+
+def test_a_cleaning_on_the_day_of_an_after_cleaning_reading_is_the_one_it_followed():
+    readings = [(on(100), "3.9 BCM/in2", "as_found"), (on(100), "3.98 BCM/in2", "after_cleaning")]
+    picture = wear_picture("4 BCM/in2", ENGRAVED, readings, cleanings=[on(100)], today=on(101))
+    assert picture.codes == []

@@ -164,3 +164,19 @@ def test_migration_adds_the_register_to_a_file_of_the_previous_version(tmp_path)
         assert conn.execute("SELECT title FROM snippet").fetchone()[0] == "kept"
         assert conn.execute("SELECT count(*) FROM roll").fetchone()[0] == 0
         assert conn.execute("PRAGMA user_version").fetchone()[0] == db.SCHEMA_VERSION
+
+
+def test_the_demo_shop_has_its_stories_and_is_filled_once(tmp_path):
+    from webapp.rolls import demo
+
+    assert demo.fill(tmp_path) == len(demo.ROLLS)
+    assert demo.fill(tmp_path) == 0
+    client = create_app({"TESTING": True, "DATA_DIR": str(tmp_path)}).test_client()
+    rolls = {r["roll_id"]: r for r in client.get(URL).get_json()["rolls"]}
+    assert 18 <= len(rolls) <= 24
+    assert rolls["NW-203"]["wear"]["flags"] == ["replace"]
+    assert rolls["WW-304"]["wear"]["flags"] == ["off_spec"]
+    assert rolls["NW-106"]["wear"]["flags"] == ["clean"]
+    assert rolls["NW-104"]["wear"]["flags"] == [] and rolls["NW-104"]["wear"]["plugging"] > 0.1
+    healthy = [r for r in rolls.values() if not r["wear"]["flags"]]
+    assert len(healthy) > len(rolls) / 2
