@@ -102,3 +102,25 @@ TYPICAL_WALL = Q_(3.0, "um")
 # Common practice (REFERENCES.md "Anilox rolls"): cell depth ≈ 23–33 % of the
 # cell opening; deeper cells release ink badly and plug.
 DEPTH_TO_OPENING = Range(0.23, 0.33)
+
+# --- Anilox wear (calc.wear) ---------------------------------------------------
+# Common practice (REFERENCES.md "Anilox rolls", DOMAIN.md "The anilox roll's
+# numbers"): a roll reading about 10 % low is cleaned and measured again; a
+# permanent loss of about 10–15 % is a common replacement point. The shop may
+# change each of these.
+
+# A roll is due for replacement when its wear line (or its latest reading
+# after cleaning) is at or below this share of its nominal volume.
+WEAR_REPLACE_AT = 0.85
+# Clean when the latest as-found reading lies this share or more below the
+# wear line on its date (plugging) ...
+WEAR_CLEAN_PLUGGING = 0.10
+# ... or below this share of the nominal volume.
+WEAR_CLEAN_BELOW = 0.90
+# Measure when the latest measurement is older than this many days: a
+# quarterly volume audit (DOMAIN.md "Who does what"; the 90 days from memory).
+WEAR_AUDIT_DAYS = 90
+# A new roll whose first measurement lies outside this share either side of its
+# certificate volume (else its nominal) is off spec: new rolls are commonly
+# within about ±10 % (REFERENCES.md).
+WEAR_OFF_SPEC = 0.10

@@ -8,7 +8,8 @@ opens nothing at import time. waitress serves it (see ``webapp.cli``).
 - ``auth/``: passcodes, CSRF and the one gate for writes;
 - ``calculators/``: every calculation (registry, API, pages);
 - ``shell/``: unit preference, offline page, service worker;
-- ``snippets/``: saved calculations (pages, API, store, export and import).
+- ``snippets/``: saved calculations (pages, API, store, export and import);
+- ``rolls/``: the anilox roll register (pages, API, store, wear, CSV).
 """
 
 from __future__ import annotations
@@ -33,7 +34,7 @@ def create_app(test_config: dict | None = None) -> Flask:
         app.config.update(test_config)
     Path(app.config["DATA_DIR"]).mkdir(parents=True, exist_ok=True)
 
-    from webapp import auth, calculators, https, shell, snippets
+    from webapp import auth, calculators, https, rolls, shell, snippets
     from webapp.common import assets, db, formatting, jsonapi, openapi, security  # noqa: F401 (openapi: its route)
 
     # Plumbing every page shares.
@@ -47,6 +48,7 @@ def create_app(test_config: dict | None = None) -> Flask:
     calculators.init_app(app)
     shell.init_app(app)
     snippets.init_app(app)
+    rolls.init_app(app)
     # HTTPS: the phone set-up page, Secure cookies, the plain port behind Caddy.
     https.init_app(app)
     # The JSON API last: every feature has nested its child under it by now.

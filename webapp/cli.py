@@ -143,6 +143,10 @@ def serve_worker(args) -> int:
         added = demo.fill(data_dir)
         if added:
             print(f"inkfilm: filled {data_dir} with {added} snippets of the demo shop", flush=True)
+        from webapp.rolls import demo as roll_demo
+
+        if rolls_added := roll_demo.fill(data_dir):
+            print(f"inkfilm: filled {data_dir} with {rolls_added} anilox rolls of the demo shop", flush=True)
     watchdog.start()
     try:
         app = create_app(config)

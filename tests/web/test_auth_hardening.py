@@ -434,6 +434,10 @@ def _safe_target(node, assigned: dict[str, ast.AST]) -> bool:
         return name in {"url_for", "safe_next", "_next"}
     if isinstance(node, ast.Name) and node.id in assigned:
         return _safe_target(assigned[node.id], {})
+    if isinstance(node, ast.BinOp) and isinstance(node.op, ast.Add):
+        # a safe address with a fragment added: url_for(...) + "#wear"
+        tail = node.right
+        return _safe_target(node.left, assigned) and isinstance(tail, ast.Constant) and str(tail.value)[:1] == "#"
     return False
 
 

@@ -157,15 +157,13 @@ def form_body(form: dict) -> dict:
     return body
 
 
-# A link may open the page with an anilox volume filled in (the converter's
-# "Work it out on Film chain"): ``/film?anilox_volume=7&anilox_unit=cm3/m2``.
-LINKED = ("anilox_volume", "anilox_unit")
-
-
 def page():
     form = form_values(DEFAULTS)
     if request.method == "GET":
-        form.update({key: request.args[key] for key in LINKED if isinstance(request.args.get(key), str)})
+        # A link may fill the form (the converter's "Work it out on Film chain", the roll register's
+        # "film chain with this roll"); the values are
+        # checked like typed ones.
+        form.update({key: value[:40] for key, value in request.args.items() if key in DEFAULTS})
     context = {
         "form": form,
         "errors": {},

@@ -1,0 +1,182 @@
+"""Roll register pages: forms keep typed words with the message beside the field, CSRF, passcodes, chart, fit links."""
+
+from __future__ import annotations
+
+import contextlib
+import re
+import sqlite3
+from datetime import date, timedelta
+
+import pytest
+
+from tests.web.test_rolls_api import ROLL, SHOP, SUPERVISOR, URL, add_roll, measure
+from webapp import create_app
+from webapp.common import db
+
+TODAY = date.today()
+CSRF = re.compile(r'name="csrf_token" value="([^"]+)"')
+
+
+@pytest.fixture
+def csrf_token(client) -> str:
+    """This client's CSRF token, as the add-a-roll form carries it."""
+    return CSRF.search(client.get("/rolls/new").get_data(as_text=True)).group(1)
+
+
+def form_roll(token, **changes):
+    return {
+        "csrf_token": token,
+        "roll_id": "AN-7",
+        "screen": "800",
+        "screen_unit": "lpi",
+        "angle": "60",
+        "nominal_volume": "2.2",
+        "certificate_volume": "",
+        "volume_unit": "BCM/in2",
+        "engraved_on": (TODAY - timedelta(days=400)).isoformat(),
+        "press": "N4",
+        "location": "station 2",
+        "status": "in_use",
+        "notes": "",
+        **changes,
+    }
+
+
+def test_add_a_roll_then_log_a_measurement_and_see_the_chart(client, csrf_token):
+    response = client.post("/rolls/new", data=form_roll(csrf_token))
+    assert response.status_code == 303
+    page_url = response.headers["Location"]
+    body = {
+        "csrf_token": csrf_token,
+        "measured_on": (TODAY - timedelta(days=200)).isoformat(),
+        "volume": "2,1",
+        "volume_unit": "BCM/in2",
+        "condition": "after_cleaning",
+        "method": "spread",
+        "by": "Ines",
+    }
+    assert client.post(page_url + "/measurements", data=body).status_code == 303
+    page = client.get(page_url).get_data(as_text=True)
+    assert "<svg" in page and 'class="reading after-cleaning"' in page and 'class="wear-line"' in page
+    assert "2.1" in page
+    assert 'style="' not in page and "<script>" not in page
+
+
+def test_a_bad_measurement_comes_back_with_the_typed_words_and_the_message_beside_the_field(client, csrf_token):
+    roll = add_roll(client)
+    body = {
+        "csrf_token": csrf_token,
+        "measured_on": (TODAY + timedelta(days=5)).isoformat(),
+        "volume": "1.71",
+        "volume_unit": "BCM/in2",
+        "condition": "as_found",
+        "method": "microscope XY",
+        "by": "Ines",
+    }
+    response = client.post(f"/rolls/{roll['id']}/measurements", data=body)
+    assert response.status_code == 400
+    page = response.get_data(as_text=True)
+    assert 'id="e-m-measured_on"' in page and "is in the future" in page
+    assert 'value="microscope XY"' in page and 'value="1.71"' in page
+    assert client.get(f"{URL}/{roll['id']}/measurements").get_json()["measurements"] == []
+
+
+def test_a_bad_roll_form_names_the_field_and_keeps_the_words(client, csrf_token):
+    response = client.post("/rolls/new", data=form_roll(csrf_token, nominal_volume="lots", notes="from the old sheet"))
+    assert response.status_code == 400
+    page = response.get_data(as_text=True)
+    assert 'id="e-nominal_volume"' in page and 'value="lots"' in page and "from the old sheet" in page
+
+
+def test_forms_without_the_csrf_token_change_nothing(client):
+    roll = add_roll(client)
+    assert client.post("/rolls/new", data=form_roll("")).status_code == 400
+    body = {"measured_on": TODAY.isoformat(), "volume": "1.8", "volume_unit": "BCM/in2", "condition": "as_found"}
+    assert client.post(f"/rolls/{roll['id']}/measurements", data=body).status_code == 400
+    assert client.get(URL).get_json()["total"] == 1
+
+
+@pytest.fixture
+def locked(tmp_path):
+    app = create_app(
+        {"TESTING": True, "DATA_DIR": str(tmp_path), "SHOP_PASSCODE": SHOP, "SUPERVISOR_PASSCODE": SUPERVISOR}
+    )
+    return app.test_client()
+
+
+def test_passcodes_on_forms_keep_what_was_typed(locked):
+    token = CSRF.search(locked.get("/rolls/new").get_data(as_text=True)).group(1)
+    refused = locked.post("/rolls/new", data=form_roll(token, notes="typed on the floor"))
+    assert refused.status_code == 403
+    assert "typed on the floor" in refused.get_data(as_text=True)
+    shop = locked.post("/rolls/new", data=form_roll(token, passcode=SHOP))
+    assert shop.status_code == 403  # a roll needs the supervisor
+    assert locked.post("/rolls/new", data=form_roll(token, passcode=SUPERVISOR)).status_code == 303
+
+
+def test_stale_edit_gets_409_with_the_newer_roll_and_the_typed_words(client, csrf_token):
+    roll = add_roll(client)
+    client.put(f"{URL}/{roll['id']}", json={"version": 1, "location": "rack A-1"})
+    data = form_roll(csrf_token, roll_id="AN-101", version="1", notes="my words")
+    response = client.post(f"/rolls/{roll['id']}/edit", data=data)
+    assert response.status_code == 409
+    page = response.get_data(as_text=True)
+    assert "rack A-1" in page and "my words" in page
+    assert client.get(f"{URL}/{roll['id']}").get_json()["notes"] == ROLL["notes"]
+
+
+def test_overview_lists_most_urgent_first_and_fit_page_links_to_the_film_chain(client):
+    fine = add_roll(client, roll_id="F-1", certificate_volume=None)
+    measure(client, fine["id"], 3, "1.8 BCM/in2")
+    worn = add_roll(client, roll_id="W-1", certificate_volume=None)
+    measure(client, worn["id"], 3, "1.4 BCM/in2")
+    page = client.get("/rolls").get_data(as_text=True)
+    assert page.index("W-1") < page.index("F-1")
+    assert "flag-replace" in page
+    fit = client.get("/rolls/fit?plate_screen=150&work=process").get_data(as_text=True)
+    assert "/film?anilox_volume=1.8&amp;anilox_unit=BCM%2Fin2" in fit
+    # 1.4 BCM/in² still suits process work; the roll is listed with its replace flag.
+    assert "W-1" in fit and "replace" in fit
+    film = client.get("/film?anilox_volume=1.8&anilox_unit=BCM/in2").get_data(as_text=True)
+    assert 'value="1.8"' in film
+    assert client.get("/rolls/fit?plate_screen=abc&work=process").status_code == 200
+    assert "not a number" in client.get("/rolls/fit?plate_screen=abc&work=process").get_data(as_text=True)
+
+
+def test_unknown_roll_page_is_404(client):
+    assert client.get("/rolls/99").status_code == 404
+
+
+def test_migration_adds_the_register_to_a_file_of_the_previous_version(tmp_path):
+    path = tmp_path / db.FILENAME
+    with contextlib.closing(sqlite3.connect(path)) as old:
+        for number in range(2):
+            for statement in db._statements(db.MIGRATIONS[number]):
+                old.execute(statement)
+        old.execute(
+            "INSERT INTO snippet (uid, kind, title, inputs, results, created_at, updated_at)"
+            " VALUES ('u', 'film', 'kept', '{}', '{}', 'x', 'x')"
+        )
+        old.execute("PRAGMA user_version = 2")
+        old.commit()
+    assert db.migrate(path) == 2
+    with contextlib.closing(db.connect(path)) as conn:
+        assert conn.execute("SELECT title FROM snippet").fetchone()[0] == "kept"
+        assert conn.execute("SELECT count(*) FROM roll").fetchone()[0] == 0
+        assert conn.execute("PRAGMA user_version").fetchone()[0] == db.SCHEMA_VERSION
+
+
+def test_the_demo_shop_has_its_stories_and_is_filled_once(tmp_path):
+    from webapp.rolls import demo
+
+    assert demo.fill(tmp_path) == len(demo.ROLLS)
+    assert demo.fill(tmp_path) == 0
+    client = create_app({"TESTING": True, "DATA_DIR": str(tmp_path)}).test_client()
+    rolls = {r["roll_id"]: r for r in client.get(URL).get_json()["rolls"]}
+    assert 18 <= len(rolls) <= 24
+    assert rolls["NW-203"]["wear"]["flags"] == ["replace"]
+    assert rolls["WW-304"]["wear"]["flags"] == ["off_spec"]
+    assert rolls["NW-106"]["wear"]["flags"] == ["clean"]
+    assert rolls["NW-104"]["wear"]["flags"] == [] and rolls["NW-104"]["wear"]["plugging"] > 0.1
+    healthy = [r for r in rolls.values() if not r["wear"]["flags"]]
+    assert len(healthy) > len(rolls) / 2
