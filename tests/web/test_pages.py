@@ -291,7 +291,10 @@ def test_service_worker_is_served_from_the_root(client):
     assert response.headers["Cache-Control"] == "no-cache"
     body = text(response)
     shell = json.loads(re.search(r"const SHELL = (\[.*?\]);", body).group(1))
-    assert {"/", "/film", "/estimate", "/offline"} <= set(shell)
+    # fetched at install: the quick pages and the offline page; every calculator page is kept once opened
+    assert {"/", "/film", "/offline"} <= set(shell) and "/estimate" not in shell
+    pages = json.loads(re.search(r"const SHELL_PAGES = new Set\((\[.*?\])\);", body).group(1))
+    assert {"/", "/film", "/estimate", "/fit", "/cell", "/ink-strength", "/offline"} <= set(pages)
     for url in shell:
         with client.get(url) as page:
             assert page.status_code == 200, url

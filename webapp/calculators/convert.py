@@ -242,4 +242,5 @@ EQUIVALENTS = Calculator(
             "groups": [Answer({"key": "text", "title": "text", "note": "text or null", "values": ["quantity"]})],
         }
     ),
+    precache=True,
 )

@@ -198,4 +198,5 @@ FILM = Calculator(
         dict.fromkeys(("theoretical_wet", "plate_wet", "substrate_wet"), "quantity"),
         optional=dict.fromkeys(("dry", "wet_coat_weight", "dry_coat_weight"), "quantity"),
     ),
+    precache=True,
 )

@@ -63,6 +63,9 @@ class Calculator:
     shares: frozenset[str] = field(default_factory=frozenset)
     money: frozenset[str] = field(default_factory=frozenset)
     main_input: str | None = None
+    # Whether the installed app fetches its page when it installs (the press operator's quick
+    # pages); the others are kept once visited. Keeps the first load of the app small.
+    precache: bool = False
     # Another address under /api/v1 that serves the same calculation (e.g. "/density/fit").
     also_at: str | None = None
     required: Mapping[str, str] = field(default_factory=dict)

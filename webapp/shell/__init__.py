@@ -28,8 +28,17 @@ STATIC_FILES = (
 
 
 def shell_pages() -> list[str]:
-    """The pages the installed app opens without the server."""
+    """The pages the installed app opens without the server (once fetched)."""
     return [spec.path for spec in PAGES] + ["/offline"]
+
+
+def precached_pages() -> list[str]:
+    """The pages the app fetches when it installs: the quick ones and the offline page.
+
+    The other calculator pages are kept in the cache when first opened, so the
+    first load stays within its budget however many calculators there are.
+    """
+    return [spec.path for spec in PAGES if spec.precache] + ["/offline"]
 
 
 @bp.app_context_processor
@@ -54,9 +63,8 @@ def offline():
 
 @bp.get("/sw.js")
 def service_worker():
-    pages = shell_pages()
-    shell = pages + [asset(name) for name in STATIC_FILES]
-    body = render_template("sw.js", version=build_version(), shell=shell, shell_pages=pages)
+    shell = precached_pages() + [asset(name) for name in STATIC_FILES]
+    body = render_template("sw.js", version=build_version(), shell=shell, shell_pages=shell_pages())
     response = make_response(body)
     response.mimetype = "text/javascript"
     response.headers["Cache-Control"] = "no-cache"

@@ -26,8 +26,9 @@ self.addEventListener("activate", (event) => {
 // The pages were drawn in the user's units; after a change of units, draw them again.
 self.addEventListener("message", (event) => {
   if (event.data === "refresh-shell") {
-    event.waitUntil(caches.open(CACHE).then((cache) =>
-      cache.addAll([...SHELL_PAGES].map((url) => new Request(url, { cache: "reload" })))).catch(() => {}));
+    // Only the pages this phone has kept: a change of units fetches nothing new.
+    event.waitUntil(caches.open(CACHE).then((cache) => Promise.all([...SHELL_PAGES].map((url) =>
+      cache.match(url).then((hit) => hit && cache.add(new Request(url, { cache: "reload" })))))).catch(() => {}));
   }
 });
 

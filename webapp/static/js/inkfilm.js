@@ -5,6 +5,12 @@
   var root = document.documentElement;
   root.classList.add("js");
 
+  // The nav scrolls sideways on a phone: keep the current page's link in view.
+  var here = document.querySelector(".mainnav [aria-current]");
+  if (here && here.parentNode.scrollWidth > here.parentNode.clientWidth) {
+    here.parentNode.scrollLeft = here.offsetLeft - (here.parentNode.clientWidth - here.offsetWidth) / 2;
+  }
+
   var COOKIE = "inkfilm_units";
   var reach = document.getElementById("reach");
 
