@@ -33,19 +33,36 @@ def test_the_served_description_is_the_generated_one(document):
     assert document == json.loads(json.dumps(description()))
 
 
+def described_paths(rule: str) -> list[str]:
+    """A Flask rule as the OpenAPI paths that describe it: ``<int:x>`` is ``{x}``; ``<any(a, b):x>`` is a path each."""
+    path = re.sub(r"<int:(\w+)>", r"{\1}", rule.removeprefix("/api/v1"))
+    choice = re.search(r"<any\(([^)]*)\):\w+>", path)
+    if choice is None:
+        return [path]
+    options = [name.strip() for name in choice.group(1).split(",")]
+    return [p for name in options for p in described_paths(path[: choice.start()] + name + path[choice.end() :])]
+
+
+def test_described_paths_expands_flask_rules():
+    assert described_paths("/api/v1/rolls/<int:roll>") == ["/rolls/{roll}"]
+    assert described_paths("/api/v1/rolls/export/<any(rolls, cleanings):table>.csv") == [
+        "/rolls/export/rolls.csv",
+        "/rolls/export/cleanings.csv",
+    ]
+
+
 def test_every_calculator_and_snippets_endpoint_has_a_path(document, app):
     paths = set(document["paths"])
     assert {f"/{kind}" for kind in KINDS} <= paths
+    assert "/rolls" in paths
     # Every API rule the app serves is described, with each of its methods.
     for rule in app.url_map.iter_rules():
         if not rule.rule.startswith("/api/v1/"):
             continue
-        path = rule.rule.removeprefix("/api/v1").replace("<int:snippet_id>", "{snippet_id}")
-        if path.startswith("/<any("):
-            continue  # the calculations' one rule: the paths above
-        assert path in paths, path
-        for method in rule.methods - {"HEAD", "OPTIONS"}:
-            assert method.lower() in document["paths"][path], (method, path)
+        for path in described_paths(rule.rule):
+            assert path in paths, path
+            for method in rule.methods - {"HEAD", "OPTIONS"}:
+                assert method.lower() in document["paths"][path], (method, path)
 
 
 def body_schema(document, kind):

@@ -7,7 +7,9 @@ Made from what the code checks, so that it cannot drift from it:
   ``check_fields``), with the ``limits`` it enforces; its 200 answer is the
   spec's ``answer``;
 - the snippets endpoints' fields are ``webapp.snippets.api``'s field
-  constants, with the lengths of ``webapp.snippets.rules``.
+  constants, with the lengths of ``webapp.snippets.rules``;
+- the roll register's paths are ``webapp.rolls.openapi.roll_paths()``, from
+  the field dicts of ``webapp.rolls.rules`` and ``webapp.rolls.api``.
 
 Every 4xx answer has the one error shape of ``webapp.common.jsonapi``
 (``{"error": {"field", "message"}}``); a stale edit's 409 adds ``current``.
@@ -445,6 +447,10 @@ def description() -> dict:
         if spec.also_at:
             paths[spec.also_at] = calculation(spec, operation=f"calculate_{spec.kind}_at_{spec.also_at.strip('/')}")
     paths |= snippet_paths()
+    # Imported here: the rolls module builds its paths from this module's pieces.
+    from webapp.rolls import openapi as rolls_openapi
+
+    paths |= rolls_openapi.roll_paths()
     paths["/openapi.json"] = {
         "get": {
             "operationId": "openapi",
@@ -459,7 +465,8 @@ def description() -> dict:
             "version": "1",
             "description": (
                 "Anilox volume, ink film and ink quantities for the flexographic pressroom, and saved "
-                "calculations (snippets). Every POST, PUT and PATCH sends `Content-Type: application/json` "
+                "calculations (snippets), and the anilox roll register (rolls). Every POST, PUT and PATCH sends "
+                "`Content-Type: application/json` "
                 f"(else 415), at most {MAX_BODY // 1024} KiB (an import up to "
                 f"{exchange.MAX_IMPORT_BYTES // (1024 * 1024)} MiB). Quantities go in as text "
                 "'<number> <unit>' and come back as {value, unit}; shares are numbers from 0 to 1. "
@@ -490,6 +497,7 @@ def description() -> dict:
                     "required": ["field", "message"],
                 },
                 "Snippet": SNIPPET,
+                **rolls_openapi.SCHEMAS,
             }
         },
     }

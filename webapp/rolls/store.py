@@ -48,6 +48,10 @@ ENTRIES = {
 }
 
 
+# SQLite's largest INTEGER: an id beyond it (a URL may hold any digits) is no roll or entry here.
+MAX_ID = 2**63 - 1
+
+
 class NotFound(LookupError):
     """No roll (or log entry) with that id."""
 
@@ -83,6 +87,8 @@ def check_version(version) -> int:
 
 
 def get_roll(conn, roll: int) -> dict:
+    if not 0 < roll <= MAX_ID:
+        raise NotFound("roll", roll)
     row = conn.execute("SELECT * FROM roll WHERE id = ?", (roll,)).fetchone()
     if row is None:
         raise NotFound("roll", roll)
@@ -119,6 +125,8 @@ def logs(conn, roll_ids: list[int] | None = None) -> dict[int, dict[str, list[di
 
 def get_entry(conn, kind: str, roll: int, entry: int) -> dict:
     spec = ENTRIES[kind]
+    if not (0 < roll <= MAX_ID and 0 < entry <= MAX_ID):
+        raise NotFound(kind, entry)
     row = conn.execute(
         f"SELECT * FROM {spec['table']} WHERE id = ? AND roll = ? AND removed_at IS NULL", (entry, roll)
     ).fetchone()
