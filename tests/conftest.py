@@ -4,6 +4,7 @@ live waitress server for browser tests and benchmarks."""
 from __future__ import annotations
 
 import contextlib
+import io
 import os
 import re
 import socket
@@ -164,3 +165,18 @@ def browser_type_launch_args(browser_type_launch_args):
             "--no-first-run",
         ],
     }
+
+
+def post_file(client, url: str, fields: dict, name: str, data: bytes, filename: str):
+    """A form post with one file, its body made in memory.
+
+    The test client would spool a body over 500 KB to a temporary file that it
+    never closes (a ResourceWarning, an error in this suite, in whichever test
+    runs when it is collected).
+    """
+    from werkzeug.datastructures import FileStorage
+    from werkzeug.test import encode_multipart
+
+    upload = FileStorage(stream=io.BytesIO(data), filename=filename, content_type="application/json")
+    boundary, body = encode_multipart({**fields, name: upload})
+    return client.post(url, data=body, content_type=f"multipart/form-data; boundary={boundary}")

@@ -4,14 +4,13 @@ from __future__ import annotations
 
 import contextlib
 import html
-import io
 import json
 import re
 
 import pytest
 
 from tests.bodies import FILM
-from tests.conftest import csrf_from
+from tests.conftest import csrf_from, post_file
 from webapp import create_app
 from webapp.calculators import CALCULATIONS
 from webapp.common import db
@@ -194,8 +193,7 @@ def test_export_and_import_through_the_pages(client, tmp_path):
     other = create_app({"TESTING": True, "DATA_DIR": str(tmp_path / "other")}).test_client()
 
     def upload(data: bytes):
-        files = {"csrf_token": csrf(other), "file": (io.BytesIO(data), "inkfilm-snippets.json")}
-        return other.post("/snippets/import", data=files, content_type="multipart/form-data")
+        return post_file(other, "/snippets/import", {"csrf_token": csrf(other)}, "file", data, "inkfilm-snippets.json")
 
     first = upload(exported.data)
     assert first.status_code == 303

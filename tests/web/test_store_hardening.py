@@ -30,6 +30,7 @@ import pytest
 
 from calc import InputError
 from tests.bodies import ESTIMATE, FILM
+from tests.conftest import post_file
 from webapp import create_app
 from webapp.calculators import CALCULATIONS
 from webapp.common import db
@@ -294,8 +295,7 @@ def test_a_50_mb_export_imports_back_through_the_api_and_the_page(client, tmp_pa
 
     page = create_app({"TESTING": True, "DATA_DIR": str(tmp_path / "page")}).test_client()
     started = time.monotonic()
-    files = {"csrf_token": csrf(page), "file": (io.BytesIO(body), "inkfilm-snippets.json")}
-    response = page.post("/snippets/import", data=files, content_type="multipart/form-data")
+    response = post_file(page, "/snippets/import", {"csrf_token": csrf(page)}, "file", body, "inkfilm-snippets.json")
     seconds = time.monotonic() - started
     assert response.status_code == 303, text(response)[:500]
     print(f"import of the same file by the page: {seconds:.1f} s")
@@ -314,8 +314,7 @@ def test_an_import_page_upload_over_8_mb_is_taken(client, tmp_path):
     body = json.dumps({"snippets": _items(item, 2500)}).encode()
     assert len(body) > 8 * 1024 * 1024
     other = create_app({"TESTING": True, "DATA_DIR": str(tmp_path / "other")}).test_client()
-    files = {"csrf_token": csrf(other), "file": (io.BytesIO(body), "big.json")}
-    response = other.post("/snippets/import", data=files, content_type="multipart/form-data")
+    response = post_file(other, "/snippets/import", {"csrf_token": csrf(other)}, "file", body, "big.json")
     assert response.status_code == 303, text(response)[:300]
     assert "Imported 2500 snippets; 0 were here already" in text(other.get("/snippets"))
 
