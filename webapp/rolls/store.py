@@ -280,6 +280,19 @@ def _snapshot(kind: str, entry: dict) -> str:
     return json.dumps({name: entry[name] for name in ENTRIES[kind]["columns"]}, ensure_ascii=False)
 
 
+def _keep_change(conn, kind: str, roll: int, entry: int, version: int, action: str, reason: str, stamp: str) -> dict:
+    """Inside a write transaction: the entry as it is now, refused as a ``Conflict`` if it moved on
+    from ``version``, with its values kept in ``roll_entry_change`` before they change."""
+    current = get_entry(conn, kind, roll, entry)
+    if current["version"] != version:
+        raise Conflict(current, kind)
+    conn.execute(
+        "INSERT INTO roll_entry_change (kind, entry, changed_at, action, before, reason) VALUES (?, ?, ?, ?, ?, ?)",
+        (kind, entry, stamp, action, _snapshot(kind, current), reason),
+    )
+    return current
+
+
 def correct_entry(conn, kind: str, roll: int, entry: int, version, changes: dict, *, reason="", today=None, now=None):
     """Correct a log entry (supervisor); its old values are kept. The corrected entry."""
     version = check_version(version)
@@ -290,13 +303,7 @@ def correct_entry(conn, kind: str, roll: int, entry: int, version, changes: dict
     clean = spec["check"]({**entry_fields(kind, current), **changes}, engraved, today or date.today())
     stamp = now_text(now)
     with transaction(conn):
-        current = get_entry(conn, kind, roll, entry)
-        if current["version"] != version:
-            raise Conflict(current, kind)
-        conn.execute(
-            "INSERT INTO roll_entry_change (kind, entry, changed_at, action, before, reason) VALUES (?, ?, ?, ?, ?, ?)",
-            (kind, entry, stamp, "corrected", _snapshot(kind, current), reason),
-        )
+        _keep_change(conn, kind, roll, entry, version, "corrected", reason, stamp)
         columns = spec["columns"]
         conn.execute(
             f"UPDATE {spec['table']} SET {', '.join(f'{name} = ?' for name in columns)}, updated_at = ?,"
@@ -313,12 +320,6 @@ def remove_entry(conn, kind: str, roll: int, entry: int, version, *, reason="", 
     spec = ENTRIES[kind]
     stamp = now_text(now)
     with transaction(conn):
-        current = get_entry(conn, kind, roll, entry)
-        if current["version"] != version:
-            raise Conflict(current, kind)
-        conn.execute(
-            "INSERT INTO roll_entry_change (kind, entry, changed_at, action, before, reason) VALUES (?, ?, ?, ?, ?, ?)",
-            (kind, entry, stamp, "removed", _snapshot(kind, current), reason),
-        )
+        current = _keep_change(conn, kind, roll, entry, version, "removed", reason, stamp)
         conn.execute(f"UPDATE {spec['table']} SET removed_at = ?, version = version + 1 WHERE id = ?", (stamp, entry))
     return {**current, "removed_at": stamp, "version": current["version"] + 1}
