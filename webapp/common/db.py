@@ -21,6 +21,9 @@ from flask import current_app, g
 
 FILENAME = "inkfilm.sqlite3"
 BUSY_TIMEOUT_S = 10.0
+# SQLite's largest INTEGER: an id beyond it (an address may hold any digits) names no row here,
+# and sqlite3 would raise OverflowError if it were passed on.
+MAX_ID = 2**63 - 1
 
 MIGRATIONS_DIR = Path(__file__).with_name("migrations")
 

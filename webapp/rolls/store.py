@@ -15,7 +15,7 @@ import json
 from datetime import UTC, date, datetime
 
 from calc import InputError
-from webapp.common.db import transaction
+from webapp.common.db import MAX_ID, transaction
 from webapp.rolls import rules
 
 ROLL_COLUMNS = (
@@ -46,10 +46,6 @@ ENTRIES = {
         "check": rules.check_cleaning,
     },
 }
-
-
-# SQLite's largest INTEGER: an id beyond it (a URL may hold any digits) is no roll or entry here.
-MAX_ID = 2**63 - 1
 
 
 class NotFound(LookupError):

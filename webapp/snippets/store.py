@@ -15,12 +15,10 @@ import uuid
 from datetime import UTC, datetime, timedelta
 
 from calc import InputError
-from webapp.common.db import transaction
+from webapp.common.db import MAX_ID, transaction
 from webapp.snippets.rules import META_FIELDS, check_kind, check_meta, compute
 
 BIN_DAYS = 30
-# SQLite's largest integer: a larger id in an address is no snippet here (404), never an overflow.
-MAX_ID = 2**63 - 1
 # A version counts changes; the largest one taken keeps clear of SQLite's integers.
 MAX_VERSION = 10**15
 # Search: SQLite refuses LIKE patterns over 50,000 bytes; no word a person types is this long.
