@@ -14,6 +14,7 @@ from webapp.calculators import PAGES
 from webapp.common.assets import ONE_YEAR, asset, build_version
 from webapp.common.preference import UNITS_COOKIE, current_system
 from webapp.common.urls import safe_next
+from webapp.shell.offline_data import offline_document
 
 bp = Blueprint("shell", __name__)
 
@@ -25,6 +26,13 @@ STATIC_FILES = (
     "inkfilm.webmanifest",
     "icons/inkfilm.svg",
 )
+# Worked out on the phone when the server is out of reach (the worker imports it).
+OFFLINE_CALC = "js/offline-calc.js"
+
+
+def offline_data_url() -> str:
+    """The address of the offline document, versioned by its own content."""
+    return f"/offline-data.json?v={offline_document()[1]}"
 
 
 def shell_pages() -> list[str]:
@@ -61,10 +69,30 @@ def offline():
     return render_template("offline.html")
 
 
+@bp.get("/offline-data.json")
+def offline_data():
+    """What the phone needs to work out the converter and the film chain itself (see offline_data.py)."""
+    body, version = offline_document()
+    response = make_response(body)
+    response.mimetype = "application/json"
+    if request.args.get("v") == version:
+        response.headers["Cache-Control"] = f"public, max-age={ONE_YEAR}, immutable"
+    else:
+        response.headers["Cache-Control"] = "no-cache"
+    return response
+
+
 @bp.get("/sw.js")
 def service_worker():
-    shell = precached_pages() + [asset(name) for name in STATIC_FILES]
-    body = render_template("sw.js", version=build_version(), shell=shell, shell_pages=shell_pages())
+    shell = precached_pages() + [asset(name) for name in STATIC_FILES] + [offline_data_url()]
+    body = render_template(
+        "sw.js",
+        version=build_version(),
+        shell=shell,
+        shell_pages=shell_pages(),
+        offline_calc=asset(OFFLINE_CALC),
+        offline_data=offline_data_url(),
+    )
     response = make_response(body)
     response.mimetype = "text/javascript"
     response.headers["Cache-Control"] = "no-cache"
