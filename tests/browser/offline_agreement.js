@@ -1,6 +1,6 @@
 // The comparison of tests/browser/test_offline_agreement.py, run in the page (page.evaluate).
 (async (cases) => {
-  const data = await (await fetch("/offline-data.json")).json();
+  const data = self.inkfilmOfflineData;  // the worker's own script: code and data together
   const calc = inkfilmOffline.make(data);
   const close = (a, b) => a === b || Math.abs(a - b) <= 1e-9 * Math.max(Math.abs(a), Math.abs(b));
   function features(html) {

@@ -36,7 +36,7 @@ def test_offline_answers_agree_with_the_server(open_context):
     assert len(cases) >= 500
     page = open_context(PHONE).new_page()
     page.goto("/")
-    page.add_script_tag(url="/static/js/offline-calc.js")
+    page.add_script_tag(url="/offline-calc.js")  # the very script the service worker imports
     result = page.evaluate(COMPARE, cases)
     record_measurement(
         f"offline agreement: {result['compared']} inputs ({result['errors']} with an error), "

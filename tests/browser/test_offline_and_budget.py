@@ -39,8 +39,9 @@ def test_the_app_opens_offline_and_says_the_server_is_out_of_reach(open_context,
     expect(page.get_by_role("heading", name="Convert a value")).to_be_visible()
     expect(page.locator("#reach")).to_be_visible()
     expect(page.locator("#reach")).to_contain_text("out of reach")
-    page.get_by_label("Value").fill("4.5")  # a calculation that cannot reach the server
-    expect(page.locator("#converter-result")).to_have_class("result is-stale")
+    page.get_by_label("Value").fill("4.5")  # a calculation that cannot reach the server: worked out on the phone
+    expect(page.locator(".offline-note")).to_be_visible()
+    expect(page.locator("#reach")).to_contain_text("worked out on this phone")
     page.screenshot(path=str(screenshots / "offline-converters-phone.png"), full_page=True)
     page.goto("/film")  # every page of the shell opens
     expect(page.get_by_role("heading", name="Film chain")).to_be_visible()

@@ -14,7 +14,7 @@ from webapp.calculators import PAGES
 from webapp.common.assets import ONE_YEAR, asset, build_version
 from webapp.common.preference import UNITS_COOKIE, current_system
 from webapp.common.urls import safe_next
-from webapp.shell.offline_data import offline_document
+from webapp.shell.offline_data import offline_bundle, offline_document
 
 bp = Blueprint("shell", __name__)
 
@@ -26,13 +26,6 @@ STATIC_FILES = (
     "inkfilm.webmanifest",
     "icons/inkfilm.svg",
 )
-# Worked out on the phone when the server is out of reach (the worker imports it).
-OFFLINE_CALC = "js/offline-calc.js"
-
-
-def offline_data_url() -> str:
-    """The address of the offline document, versioned by its own content."""
-    return f"/offline-data.json?v={offline_document()[1]}"
 
 
 def shell_pages() -> list[str]:
@@ -47,6 +40,11 @@ def precached_pages() -> list[str]:
     first load stays within its budget however many calculators there are.
     """
     return [spec.path for spec in PAGES if spec.precache] + ["/offline"]
+
+
+def offline_calc_url() -> str:
+    """The phone's offline code with its data (one script, versioned by its content)."""
+    return f"/offline-calc.js?v={offline_bundle().version}"
 
 
 @bp.app_context_processor
@@ -72,10 +70,24 @@ def offline():
 @bp.get("/offline-data.json")
 def offline_data():
     """What the phone needs to work out the converter and the film chain itself (see offline_data.py)."""
-    body, version = offline_document()
-    response = make_response(body)
+    response = make_response(offline_document()[0])
     response.mimetype = "application/json"
-    if request.args.get("v") == version:
+    response.headers["Cache-Control"] = "no-cache"
+    return response
+
+
+@bp.get("/offline-calc.js")
+def offline_calc():
+    """The offline code and document in one script for the worker to import (see offline_data.py)."""
+    bundle = offline_bundle()
+    accepted = request.accept_encodings
+    encoding = next((name for name in ("br", "gzip") if accepted[name]), None)
+    response = make_response(bundle.encoded[encoding] if encoding else bundle.body)
+    response.mimetype = "text/javascript"
+    if encoding:
+        response.headers["Content-Encoding"] = encoding
+    response.vary.add("Accept-Encoding")
+    if request.args.get("v") == bundle.version:
         response.headers["Cache-Control"] = f"public, max-age={ONE_YEAR}, immutable"
     else:
         response.headers["Cache-Control"] = "no-cache"
@@ -84,14 +96,13 @@ def offline_data():
 
 @bp.get("/sw.js")
 def service_worker():
-    shell = precached_pages() + [asset(name) for name in STATIC_FILES] + [offline_data_url()]
+    shell = precached_pages() + [asset(name) for name in STATIC_FILES]
     body = render_template(
         "sw.js",
         version=build_version(),
         shell=shell,
         shell_pages=shell_pages(),
-        offline_calc=asset(OFFLINE_CALC),
-        offline_data=offline_data_url(),
+        offline_calc=offline_calc_url(),
     )
     response = make_response(body)
     response.mimetype = "text/javascript"

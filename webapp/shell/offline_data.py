@@ -1,8 +1,10 @@
 """The offline document: the core's data (``calc.offline``) and how the pages' forms read.
 
-Served at ``/offline-data.json?v=<hash of the document>`` and kept by the
-service worker, which works out the converter and the film chain with it
-when the server is out of reach (``static/js/offline-calc.js``). The form
+Served at ``/offline-data.json``, and with the code that uses it as one
+script, ``/offline-calc.js?v=<hash>`` (:func:`offline_bundle`), which the
+service worker imports when it installs: it works out the converter and the
+film chain with them when the server is out of reach
+(``static/js/offline-calc.js``, the source). The form
 part (which unit menu each page has, the words of each form error, and the
 unit spellings a value may carry, as ``4.5 bcm``) is read here from
 ``webapp.common.forms`` by giving it such input, so that a change there
@@ -11,9 +13,14 @@ shows in the document and the phone reads a form as the server does.
 
 from __future__ import annotations
 
+import gzip
 import hashlib
 import json
 from functools import cache
+from pathlib import Path
+
+import brotli  # Flask-Compress's own dependency
+import rjsmin
 
 from calc.display import UNIT_LABELS
 from calc.errors import InputError
@@ -45,7 +52,7 @@ _EXTRA_SPELLINGS = (
 def _candidates() -> list[str]:
     seen = []
     for spelling in list(UNIT_LABELS) + list(UNIT_LABELS.values()) + list(_EXTRA_SPELLINGS):
-        cases = (spelling, spelling.lower(), spelling.upper(), spelling.replace("µ", "μ"), spelling.replace("µ", "u"))
+        cases = (spelling, spelling.lower(), spelling.replace("µ", "μ"), spelling.replace("µ", "u"))
         for text in cases:
             for variant in (text, text.replace("2", "²").replace("3", "³"), text.replace("2", "^2").replace("3", "^3")):
                 if variant not in seen:
@@ -123,3 +130,26 @@ def offline_document() -> tuple[bytes, str]:
     doc["forms"] = form_document()
     body = json.dumps(doc, ensure_ascii=False, separators=(",", ":"), sort_keys=True).encode("utf-8")
     return body, hashlib.sha256(body).hexdigest()[:16]
+
+
+OFFLINE_CALC_SOURCE = Path(__file__).resolve().parents[1] / "static" / "js" / "offline-calc.js"
+
+
+class Bundle:
+    """The phone's offline script: the code without comments and spaces, then the document
+    (``self.inkfilmOfflineData``); kept compressed once (Brotli at its best, gzip) as it is
+    part of every first load."""
+
+    def __init__(self, source: str, document: bytes):
+        code = rjsmin.jsmin(source) + "\nself.inkfilmOfflineData=" + document.decode("utf-8") + ";\n"
+        self.body = code.encode("utf-8")
+        self.version = hashlib.sha256(self.body).hexdigest()[:16]
+        self.encoded = {
+            "br": brotli.compress(self.body, quality=11),
+            "gzip": gzip.compress(self.body, compresslevel=9, mtime=0),
+        }
+
+
+@cache
+def offline_bundle() -> Bundle:
+    return Bundle(OFFLINE_CALC_SOURCE.read_text(encoding="utf-8"), offline_document()[0])

@@ -111,24 +111,37 @@
       return result.querySelector("data, .headline") !== null;
     });
   }
-  function showReach(target) {
+  // The converter and the film chain are worked out by the service worker meanwhile ("phone").
+  function worksOffline() {
+    return !!(navigator.serviceWorker && navigator.serviceWorker.controller && document.querySelector("form[data-works-offline]"));
+  }
+  function showReach(target, mode) {
     if (reach) {
-      var shown = resultShown();
+      var when = mode || (worksOffline() ? "phone" : resultShown() ? "result" : "none");
       reach.querySelectorAll("[data-reach-when]").forEach(function (part) {
-        part.hidden = part.getAttribute("data-reach-when") !== (shown ? "result" : "none");
+        part.hidden = part.getAttribute("data-reach-when") !== when;
       });
       reach.hidden = false;
     }
+    document.querySelectorAll("[data-server-only]").forEach(function (note) { note.hidden = false; });
     if (target) target.classList.add("is-stale");
   }
   function hideReach() {
     if (reach) reach.hidden = true;
+    document.querySelectorAll("[data-server-only]").forEach(function (note) { note.hidden = true; });
     document.querySelectorAll(".is-stale").forEach(function (el) { el.classList.remove("is-stale"); });
   }
   document.body.addEventListener("htmx:sendError", function (event) { showReach(event.detail.target); });
   document.body.addEventListener("htmx:timeout", function (event) { showReach(event.detail.target); });
   document.body.addEventListener("htmx:afterRequest", function (event) {
-    if (event.detail.successful) hideReach();
+    if (!event.detail.successful) return;
+    var xhr = event.detail.xhr;
+    if (xhr && xhr.getResponseHeader("X-Inkfilm-Worked-Out") === "phone") showReach(null, "phone");
+    else hideReach();
+  });
+  // The worker works an answer out in the user's units: it cannot read the cookie on every phone.
+  document.body.addEventListener("htmx:configRequest", function (event) {
+    event.detail.headers["X-Inkfilm-Units"] = savedSystem() || "metric";
   });
   window.addEventListener("offline", function () { showReach(null); });
   window.addEventListener("online", function () { refreshResults(); });
