@@ -365,3 +365,27 @@ def test_the_demo_shop_has_inks_and_three_fitted_sets_and_is_filled_once(tmp_pat
     assert {ink["type"] for ink in inks} == {"water_based", "solvent_based", "uv"}
     for ink_set in sets:
         assert client.get(f"/ink-sets/{ink_set['id']}").status_code == 200
+
+
+# --- picking an ink in the film chain --------------------------------------------------------------
+
+
+def test_the_film_chain_offers_the_shop_s_inks_and_fills_their_fields_when_picked(client):
+    assert "ink-pick" not in text(client.get("/film"))  # no inks: the film chain is as it was
+    ink = add_ink(client, name="Black SB", type="solvent_based", density="0.98 g/cm3", solids_by_volume=0.27)
+    page = text(client.get("/film"))
+    assert 'data-ink-pick="film-form"' in page and "Black SB (solvent-based — flammable)" in page
+    assert re.findall(r"<script(?![^>]*\bsrc=)[^>]*>", page) == []
+    # Without script: the Fill button's GET comes back as the film chain with the ink's values, the typed ones kept.
+    response = client.get(f"/inks/pick?to=film&ink={ink['id']}&anilox_volume=3.2&anilox_unit=BCM/in2&other=x")
+    assert response.status_code == 303
+    location = response.headers["Location"]
+    assert location.startswith("/film?") and "other" not in location
+    filled = text(client.get(location))
+    assert 'value="0.98"' in filled and 'value="27"' in filled and 'value="3.2"' in filled
+    assert re.search(rf'data-ink-caution="{ink["id"]}">', filled)  # the picked ink's caution, shown
+    assert "Flammable liquid" in filled
+    # The film chain's answer uses them: dry film = wet film × 27 % solids.
+    assert '<tr data-key="dry"' in filled
+    assert client.get("/inks/pick?ink=nope&anilox_volume=4").headers["Location"] == "/film?anilox_volume=4"
+    assert client.get("/inks/pick?ink=99999999999999999999999").headers["Location"] == "/film"

@@ -20,3 +20,12 @@ def init_app(app) -> None:
     app.register_blueprint(pages.bp)
     app.add_template_global(rules.TYPE_NAMES, "ink_type_names")
     app.add_template_global(rules.CAUTIONS, "ink_cautions")
+    app.add_template_global(_shop_inks, "shop_inks")
+
+
+def _shop_inks() -> list[dict]:
+    """The shop's inks, for the pick list in the film chain (``templates/inks/_pick.html``)."""
+    from webapp.common.db import get_db
+    from webapp.inks import store
+
+    return store.all_inks(get_db())

@@ -486,6 +486,35 @@ def remove_reading(ink_set: int, reading: int):
     return redirect(url_for("inks.show_set", ink_set=ink_set) + "#readings", code=303)
 
 
+# --- picking an ink in the film chain ------------------------------------------------------------
+
+FILM_KEEPS = ("anilox_volume", "anilox_unit", "anilox_to_plate", "plate_to_substrate")
+
+
+@bp.get("/inks/pick")
+def pick():
+    """Without script: the film chain again with the picked ink's density and solids filled (still editable)."""
+    from urllib.parse import urlencode
+
+    values = {key: request.args[key][:40] for key in FILM_KEEPS if key in request.args}
+    ident = request.args.get("ink", "").strip()
+    if ident.isdigit():
+        try:
+            ink = store.get_ink(get_db(), int(ident[:12]))
+        except store.NotFound:
+            ink = None
+        if ink is not None:
+            values.update(
+                ink=str(ink["id"]),
+                ink_density=f"{ink['density_g_cm3']:.6g}",
+                ink_density_unit="g/cm3",
+                solids_by_volume=_percent_text(ink["solids_by_volume"]),
+                solids_by_weight=_percent_text(ink["solids_by_weight"]),
+            )
+    query = urlencode(values)
+    return redirect("/film" + (f"?{query}" if query else ""), code=303)
+
+
 # --- CSV -----------------------------------------------------------------------------------------
 
 
