@@ -80,3 +80,28 @@ def test_an_ink_set_with_six_readings_gives_its_fit_and_the_volume_for_a_target(
     page.get_by_role("button", name="Work it out").click()
     expect(page.locator("#e-target_density")).to_contain_text("cannot be reached")
     expect(page.get_by_role("textbox", name="Target density")).to_have_value("1.9")
+
+
+def test_picking_an_ink_in_the_film_chain_fills_its_fields_and_shows_its_caution(open_context, screenshots):
+    page = open_context(PHONE).new_page()
+    response = page.request.post(
+        "/api/v1/inks",
+        data={
+            "name": "Phone pick black SB",
+            "type": "solvent_based",
+            "density": "0.97 g/cm3",
+            "solids_by_volume": 0.28,
+        },
+    )
+    assert response.status == 201
+    page.goto("/film")
+    page.locator("details.more-inputs summary").click()
+    page.get_by_label("From the shop's inks").select_option(label="Phone pick black SB (solvent-based — flammable)")
+    expect(page.locator('[name="ink_density"][form="film-form"]')).to_have_value("0.97")
+    expect(page.locator('[name="solids_by_volume"][form="film-form"]')).to_have_value("28")
+    expect(page.locator(".ink-pick .caution:visible")).to_contain_text("Flammable liquid")
+    expect(page.locator('#film-result tr[data-key="dry"]')).to_have_count(1)
+    page.locator('[name="solids_by_volume"][form="film-form"]').fill("30")  # still editable
+    expect(page.locator('[name="solids_by_volume"][form="film-form"]')).to_have_value("30")
+    assert page.evaluate("document.documentElement.scrollWidth") <= PHONE["width"]
+    page.locator("#film-settings").screenshot(path=str(screenshots / "inks-film-pick-phone.png"))
