@@ -127,7 +127,7 @@ def new_ink():
     except InputError as exc:
         return _ink_form(form, errors={exc.field or "form": exc.message}, status=400)
     flash(f"{ink['name']} is on the ink list.")
-    return redirect(url_for("inks.index") + f"#ink-{ink['id']}", code=303)
+    return redirect(url_for("inks.index", _anchor=f"ink-{ink['id']}"), code=303)
 
 
 def _ink_values(ink: dict) -> dict:
@@ -162,7 +162,7 @@ def edit_ink(ink: int):
     except InputError as exc:
         return _ink_form(form, ink=current, errors={exc.field or "form": exc.message}, status=400)
     flash("Changes saved.")
-    return redirect(url_for("inks.index") + f"#ink-{ink}", code=303)
+    return redirect(url_for("inks.index", _anchor=f"ink-{ink}"), code=303)
 
 
 @bp.post("/inks/<int:ink>/delete")
@@ -494,8 +494,6 @@ FILM_KEEPS = ("anilox_volume", "anilox_unit", "anilox_to_plate", "plate_to_subst
 @bp.get("/inks/pick")
 def pick():
     """Without script: the film chain again with the picked ink's density and solids filled (still editable)."""
-    from urllib.parse import urlencode
-
     values = {key: request.args[key][:40] for key in FILM_KEEPS if key in request.args}
     ident = request.args.get("ink", "").strip()
     if ident.isdigit():
@@ -511,8 +509,7 @@ def pick():
                 solids_by_volume=_percent_text(ink["solids_by_volume"]),
                 solids_by_weight=_percent_text(ink["solids_by_weight"]),
             )
-    query = urlencode(values)
-    return redirect("/film" + (f"?{query}" if query else ""), code=303)
+    return redirect(url_for("calculators.film", **values), code=303)
 
 
 # --- CSV -----------------------------------------------------------------------------------------
