@@ -22,6 +22,8 @@ STATIC_FILES = (
     "css/inkfilm.css",
     "css/print.css",
     "js/inkfilm.js",
+    "vendor/idb-keyval-6.3.0.umd.js",
+    "js/outbox.js",
     "inkfilm.webmanifest",
     "icons/inkfilm.svg",
 )
@@ -29,7 +31,7 @@ STATIC_FILES = (
 
 def shell_pages() -> list[str]:
     """The pages the installed app opens without the server (once fetched)."""
-    return [spec.path for spec in PAGES] + ["/offline"]
+    return [spec.path for spec in PAGES] + ["/offline", "/outbox"]
 
 
 def precached_pages() -> list[str]:
@@ -38,7 +40,7 @@ def precached_pages() -> list[str]:
     The other calculator pages are kept in the cache when first opened, so the
     first load stays within its budget however many calculators there are.
     """
-    return [spec.path for spec in PAGES if spec.precache] + ["/offline"]
+    return [spec.path for spec in PAGES if spec.precache] + ["/offline", "/outbox"]
 
 
 @bp.app_context_processor
