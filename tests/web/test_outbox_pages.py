@@ -39,16 +39,23 @@ def test_every_page_loads_the_outbox_and_has_the_hidden_count(client, path):
     assert '<div id="new-build" class="reach new-build" role="status" hidden>' in page
 
 
-def test_the_outbox_page_works_without_the_server_once_cached(client):
-    page = text(client.get("/outbox"))
-    assert "<h1>Waiting to be saved</h1>" in page
+@pytest.mark.parametrize("path", ["/outbox", "/offline"])
+def test_the_outbox_list_is_on_its_page_and_on_the_offline_page(client, path):
+    page = text(client.get(path))
+    assert "Waiting to be saved</h" in page
     assert "data-outbox-send" in page and "data-outbox-list" in page and '<template id="outbox-item">' in page
     assert "data-outbox-open" in page and "data-outbox-discard" in page
     # The same for everyone: no session token in it (fetched fresh from /outbox/token).
     assert "csrf_token" not in page
+    if path == "/offline":
+        assert '<section class="stack outbox-section" data-outbox-section hidden>' in page
+
+
+def test_the_worker_keeps_the_outbox_code_and_page(client):
     body = text(client.get("/sw.js"))
     shell = json.loads(re.search(r"const SHELL = (\[.*?\]);", body).group(1))
-    assert "/outbox" in shell
+    # The outbox page is kept once opened (the offline page lists the saves until then): not fetched at install.
+    assert "/outbox" not in shell and "/offline" in shell
     assert any(url.startswith("/static/js/outbox.js?v=") for url in shell)
     assert any(url.startswith("/static/vendor/idb-keyval-6.3.0.umd.js?v=") for url in shell)
     pages = json.loads(re.search(r"const SHELL_PAGES = new Set\((\[.*?\])\);", body).group(1))
@@ -69,7 +76,7 @@ def test_the_outbox_script_sends_the_api_body_with_the_phone_s_id():
     # The stored item is the API request body: what an older build kept, a newer one sends as it is.
     script = (ROOT / "webapp" / "static" / "js" / "outbox.js").read_text()
     assert 'fetch("/api/v1/snippets"' in script and "JSON.stringify(item.body)" in script
-    assert "kv.createStore(DB, STORE)" in script and 'DB = "inkfilm-outbox", STORE = "saves"' in script
+    assert 'kv.createStore("inkfilm-outbox", "saves")' in script  # the same store in every build
     assert "innerHTML" not in script  # saved words are shown as text, never as markup
 
 

@@ -38,9 +38,10 @@ def precached_pages() -> list[str]:
     """The pages the app fetches when it installs: the quick ones and the offline page.
 
     The other calculator pages are kept in the cache when first opened, so the
-    first load stays within its budget however many calculators there are.
+    first load stays within its budget however many calculators there are; so
+    is ``/outbox`` (until then the offline page lists the waiting saves).
     """
-    return [spec.path for spec in PAGES if spec.precache] + ["/offline", "/outbox"]
+    return [spec.path for spec in PAGES if spec.precache] + ["/offline"]
 
 
 @bp.app_context_processor
