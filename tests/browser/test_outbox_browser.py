@@ -7,15 +7,20 @@ ones the test saved."""
 
 from __future__ import annotations
 
+import contextlib
 import json
+import shutil
+import subprocess
+import sys
 import urllib.request
+from pathlib import Path
 
 import pytest
 from playwright.sync_api import expect
 
 from tests.browser.conftest import PHONE
 from tests.browser.test_offline_and_budget import wait_for_worker
-from tests.conftest import serving
+from tests.conftest import ROOT, free_port, serving, stop, wait_for
 
 pytestmark = pytest.mark.browser
 
@@ -129,3 +134,76 @@ def test_a_save_that_needs_the_passcode_waits_with_the_reason_and_can_be_opened_
         page.screenshot(path=str(screenshots / "outbox-opened-and-saved-phone.png"), full_page=True)
         saved = snippets_on(base)
         assert len(saved) == 1 and saved[0]["kind"] == "film"
+
+
+# --- a new build -----------------------------------------------------------------------------------------
+
+
+def build(tmp_path, name: str, mark: str | None = None) -> Path:
+    """A copy of the app as a build of its own; ``mark`` changes a template, so the build's version differs."""
+    folder = tmp_path / name
+    for package in ("webapp", "calc"):
+        shutil.copytree(ROOT / package, folder / package, ignore=shutil.ignore_patterns("__pycache__"))
+    if mark:
+        offline = folder / "webapp" / "templates" / "offline.html"
+        offline.write_text(offline.read_text(encoding="utf-8") + f"{{# {mark} #}}\n", encoding="utf-8")
+    return folder
+
+
+@contextlib.contextmanager
+def serve_build(folder: Path, data: Path, port: int):
+    """``inkfilm serve`` from ``folder`` (its own copy of the code) on ``port``."""
+    command = [sys.executable, "-m", "webapp.cli", "serve", "--no-https", "--host", "127.0.0.1", "--port", str(port)]
+    process = subprocess.Popen(
+        [*command, "--data-dir", str(data)], cwd=folder, stdout=subprocess.DEVNULL, stderr=subprocess.STDOUT
+    )
+    try:
+        wait_for(f"http://127.0.0.1:{port}/healthz")
+        yield
+    finally:
+        stop(process)
+
+
+OUTBOX_EMPTY = """async () => {
+    const kept = await idbKeyval.values(idbKeyval.createStore("inkfilm-outbox", "saves"));
+    return kept.length === 0;
+}"""
+
+
+def build_of(page) -> str:
+    return page.evaluate("() => new URL(document.querySelector('link[rel=stylesheet]').href).searchParams.get('v')")
+
+
+def test_a_new_build_is_taken_up_and_sends_what_the_old_one_kept(open_context, tmp_path, screenshots):
+    old, new = build(tmp_path, "old"), build(tmp_path, "new", mark="the next build")
+    data, port = tmp_path / "data", free_port()
+    base = f"http://127.0.0.1:{port}"
+    context = open_context(PHONE, service_workers="allow", base_url=base)
+    page = context.new_page()
+    with serve_build(old, data, port):
+        page.goto("/film")
+        wait_for_worker(page)
+        result_on_screen(page, "/film", "Anilox volume", "4", "1.55")
+        old_build = build_of(page)
+    # The server is stopped (out of reach for real): the save waits, made by the old build.
+    page.get_by_role("button", name="Save this…").click()
+    expect(page.locator("#outbox-link")).to_have_text("waiting to be saved (1)")
+
+    with serve_build(new, data, port):
+        # Hold the saves back for a moment, so that the new build is the one that sends them.
+        context.route("**/api/v1/snippets", lambda route: route.abort())
+        page.reload()
+        assert build_of(page) == old_build  # drawn from the old build's cache, once more
+        note = page.locator("#new-build")
+        expect(note).to_be_visible(timeout=15_000)  # the new build's worker took over
+        expect(note).to_contain_text("A new version of inkfilm is here")
+        page.screenshot(path=str(screenshots / "outbox-new-build-phone.png"))
+        assert snippets_on(base) == []
+        context.unroute("**/api/v1/snippets")
+        note.get_by_role("button", name="Reload to use it").click()
+        page.wait_for_function(OUTBOX_EMPTY, timeout=15_000)
+        expect(page.locator("#outbox-link")).to_be_hidden()
+        assert build_of(page) != old_build
+        expect(page.locator("#new-build")).to_be_hidden()
+        saved = snippets_on(base)
+        assert len(saved) == 1 and saved[0]["inputs"]["anilox_volume"] == "4.0 BCM/in2"
