@@ -35,7 +35,7 @@ def create_app(test_config: dict | None = None) -> Flask:
         app.config.update(test_config)
     Path(app.config["DATA_DIR"]).mkdir(parents=True, exist_ok=True)
 
-    from webapp import auth, calculators, https, inks, rolls, shell, snippets
+    from webapp import auth, calculators, https, inks, outbox, rolls, shell, snippets
     from webapp.common import assets, db, formatting, jsonapi, openapi, security  # noqa: F401 (openapi: its route)
 
     # Plumbing every page shares.
@@ -49,6 +49,7 @@ def create_app(test_config: dict | None = None) -> Flask:
     calculators.init_app(app)
     shell.init_app(app)
     snippets.init_app(app)
+    outbox.init_app(app)  # saves that waited on a phone: its page and token
     rolls.init_app(app)
     inks.init_app(app)
     # HTTPS: the phone set-up page, Secure cookies, the plain port behind Caddy.

@@ -200,7 +200,16 @@ def snippet_create() -> dict:
         "inputs": {"type": "object", "description": "the request body of that calculation"},
         "title": {"type": "string", "minLength": 1, "pattern": r"\S", "maxLength": rules.LIMITS["title"]},
     }
-    properties |= {name: meta_field(name) for name in sorted(snippets_api.CREATE_OPTIONAL)}
+    properties |= {name: meta_field(name) for name in sorted(snippets_api.META_OPTIONAL)}
+    properties["client_id"] = {
+        "type": ["string", "null"],
+        "pattern": rules.CLIENT_ID_PATTERN.pattern,
+        "description": (
+            "a UUID the sender made for this save (a phone's outbox does): sent again with the same "
+            "contents it is answered 200 with the snippet saved the first time, never saved twice; "
+            "the same id with other contents is a 409 naming `client_id`"
+        ),
+    }
     return {
         "type": "object",
         "properties": properties,
@@ -295,6 +304,18 @@ def snippet_paths() -> dict:
                         **json_body(ONE, "saved"),
                         "headers": {"Location": {"description": "its address", "schema": {"type": "string"}}},
                     },
+                    "200": {
+                        **json_body(ONE, "saved before under this `client_id`: the snippet from then, not saved again"),
+                        "headers": {"Location": {"description": "its address", "schema": {"type": "string"}}},
+                    },
+                    "409": json_body(
+                        {
+                            "type": "object",
+                            "properties": {"error": {"$ref": "#/components/schemas/ErrorDetail"}, "current": ONE},
+                            "required": ["error", "current"],
+                        },
+                        "this `client_id` was used for a save with other contents: `current` is that snippet",
+                    ),
                     **write,
                 },
             },

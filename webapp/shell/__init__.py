@@ -23,6 +23,8 @@ STATIC_FILES = (
     "css/inkfilm.css",
     "css/print.css",
     "js/inkfilm.js",
+    "vendor/idb-keyval-6.3.0.umd.js",
+    "js/outbox.js",
     "inkfilm.webmanifest",
     "icons/inkfilm.svg",
 )
@@ -30,14 +32,15 @@ STATIC_FILES = (
 
 def shell_pages() -> list[str]:
     """The pages the installed app opens without the server (once fetched)."""
-    return [spec.path for spec in PAGES] + ["/offline"]
+    return [spec.path for spec in PAGES] + ["/offline", "/outbox"]
 
 
 def precached_pages() -> list[str]:
     """The pages the app fetches when it installs: the quick ones and the offline page.
 
     The other calculator pages are kept in the cache when first opened, so the
-    first load stays within its budget however many calculators there are.
+    first load stays within its budget however many calculators there are; so
+    is ``/outbox`` (until then the offline page lists the waiting saves).
     """
     return [spec.path for spec in PAGES if spec.precache] + ["/offline"]
 

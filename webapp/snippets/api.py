@@ -5,6 +5,11 @@ and the same passcode rules as the pages (``webapp.auth.gate``): reading is
 open; a write sends the passcode in ``X-Inkfilm-Passcode``, or relies on an
 unlocked session cookie and then carries ``X-CSRF-Token``. Writes send JSON
 (``Content-Type: application/json``), which a page on another site cannot.
+
+A create may carry ``client_id``, a UUID the sender made for this save (a
+phone's outbox does): sent again, it is answered 200 with the snippet saved the
+first time instead of saving a second; the same id with other contents is a 409
+naming ``client_id``.
 """
 
 from __future__ import annotations
@@ -25,13 +30,21 @@ from webapp.snippets.rerun import rerun as work_out_again
 bp = Blueprint("snippets_api", __name__, url_prefix="/snippets")
 
 MAX_QUERY = 200
-CREATE_OPTIONAL = {"job_number", "press", "station", "notes", "tags", "saved_by"}
-UPDATE_FIELDS = {"title", *CREATE_OPTIONAL}
+META_OPTIONAL = {"job_number", "press", "station", "notes", "tags", "saved_by"}
+CREATE_OPTIONAL = {*META_OPTIONAL, "client_id"}
+UPDATE_FIELDS = {"title", *META_OPTIONAL}
 
 
 @bp.errorhandler(store.NotFound)
 def not_found(exc: store.NotFound):
     return error_response("id", f"there is no snippet {exc.args[0]} here", 404)
+
+
+@bp.errorhandler(store.IdTaken)
+def id_taken(exc: store.IdTaken):
+    response = jsonify(error={"field": "client_id", "message": exc.message}, current=exc.current)
+    response.status_code = 409
+    return response
 
 
 @bp.errorhandler(store.Conflict)
@@ -80,10 +93,10 @@ def list_snippets():
 def create_snippet():
     require("write")
     body = check_fields(request_body(), {"kind", "inputs", "title"}, CREATE_OPTIONAL)
-    kind, inputs = body.pop("kind"), body.pop("inputs")
-    snippet = store.create(get_db(), kind, inputs, body, CALCULATIONS)
+    kind, inputs, client_id = body.pop("kind"), body.pop("inputs"), body.pop("client_id", None)
+    snippet, created = store.create_once(get_db(), client_id, kind, inputs, body, CALCULATIONS)
     response = jsonify(snippet)
-    response.status_code = 201
+    response.status_code = 201 if created else 200  # 200: saved before under this client_id
     response.headers["Location"] = url_for("api.snippets_api.read_snippet", snippet_id=snippet["id"])
     return response
 

@@ -12,6 +12,7 @@ from __future__ import annotations
 import io
 import json
 import sqlite3
+import uuid
 
 import segno
 from flask import (
@@ -97,7 +98,15 @@ def index():
 # --- save -------------------------------------------------------------------------------------
 
 
-def _new_form(kind, inputs, meta, *, errors=None, status=200):
+def _client_id() -> str:
+    """The id this save is kept once under: the one the page made (``client_id``), else a new one."""
+    try:
+        return rules.check_client_id(request.form.get("client_id")) or str(uuid.uuid4())
+    except InputError:
+        return str(uuid.uuid4())
+
+
+def _new_form(kind, inputs, meta, *, errors=None, status=200, client_id=None):
     """The save form for ``inputs``, with today's results (or why there are none)."""
     results, problem = None, None
     try:
@@ -117,6 +126,7 @@ def _new_form(kind, inputs, meta, *, errors=None, status=200):
             errors=errors or {},
             limits=rules.LIMITS,
             presses=store.presses(get_db()),
+            client_id=client_id or _client_id(),
         ),
         status if problem is None else 400,
     )
@@ -136,6 +146,7 @@ def _displayable(value):
     return json.loads(jsontext.SURROGATE.sub("\ufffd", text)) if jsontext.has_lone_surrogate(text) else value
 
 
+@bp.app_template_global("snippet_title")
 def _default_title(kind: str, inputs) -> str:
     if not isinstance(inputs, dict):
         return kind_name(str(kind))
@@ -155,6 +166,8 @@ def new():
         "title": _default_title(kind, inputs),
         "saved_by": request.cookies.get(NAME_COOKIE, "")[: rules.LIMITS["saved_by"]],
     }
+    # A save opened from the phone's outbox brings what was kept with it.
+    meta |= {name: value for name, value in _form_meta().items() if value}
     return _new_form(kind, inputs, meta)
 
 
@@ -163,18 +176,30 @@ def create():
     kind = request.form.get("kind", "")
     inputs = _inputs_from_form()
     meta = _form_meta()
+    client_id = _client_id()
     message, status = form_gate("write")
     if message:
-        return _new_form(kind, inputs, meta, errors={"passcode": message}, status=status)
+        return _new_form(kind, inputs, meta, errors={"passcode": message}, status=status, client_id=client_id)
     try:
-        snippet = store.create(get_db(), kind, inputs, meta, CALCULATIONS)
+        snippet, created = store.create_once(get_db(), client_id, kind, inputs, meta, CALCULATIONS)
+    except store.IdTaken as exc:
+        # This form was saved before with other words (back, changed, saved again): a new id saves a second one.
+        message = (
+            f"This form was saved already as “{exc.current['title']}” (under Saved). "
+            "Press Save again to keep this as another snippet."
+        )
+        return _new_form(kind, inputs, meta, errors={"form": message}, status=409, client_id=str(uuid.uuid4()))
     except InputError as exc:
-        return _new_form(kind, inputs, meta, errors={exc.field or "form": exc.message}, status=400)
+        return _new_form(kind, inputs, meta, errors={exc.field or "form": exc.message}, status=400, client_id=client_id)
     except (sqlite3.DatabaseError, OSError) as exc:
         if not _storage_trouble(exc):
             raise
-        return _new_form(kind, inputs, meta, errors={"form": DISK_TROUBLE}, status=503)
-    flash("Saved. Anyone on the shop network can find it under Saved.")
+        return _new_form(kind, inputs, meta, errors={"form": DISK_TROUBLE}, status=503, client_id=client_id)
+    flash(
+        "Saved. Anyone on the shop network can find it under Saved."
+        if created
+        else "This was saved already: here it is."
+    )
     response = redirect(url_for("snippets.show", snippet_id=snippet["id"]), code=303)
     if snippet["saved_by"]:
         response.set_cookie(NAME_COOKIE, snippet["saved_by"], max_age=400 * 24 * 3600, httponly=True, samesite="Strict")

@@ -9,6 +9,7 @@ and plain data checked by ``webapp.snippets.rules``.
 
 from __future__ import annotations
 
+import hashlib
 import json
 import re
 import uuid
@@ -16,7 +17,7 @@ from datetime import UTC, datetime, timedelta
 
 from calc import InputError
 from webapp.common.db import MAX_ID, transaction
-from webapp.snippets.rules import META_FIELDS, check_kind, check_meta, compute
+from webapp.snippets.rules import META_FIELDS, check_client_id, check_kind, check_meta, compute
 
 BIN_DAYS = 30
 # A version counts changes; the largest one taken keeps clear of SQLite's integers.
@@ -28,6 +29,18 @@ MAX_WORD = 100
 
 class NotFound(LookupError):
     """No snippet with that id (or not in the place asked for: list or bin)."""
+
+
+class IdTaken(Exception):
+    """A new snippet's ``client_id`` is the id of a snippet saved with other contents."""
+
+    def __init__(self, current: dict):
+        super().__init__(
+            f"this id was used for another save (snippet {current['id']}, “{current['title']}”); "
+            "make a new id for a new snippet"
+        )
+        self.current = current
+        self.message = str(self)
 
 
 class Conflict(Exception):
@@ -192,8 +205,42 @@ def insert_row(conn, row: dict):
 
 def create(conn, kind: str, inputs: dict, meta: dict, calculations: dict, *, now: datetime | None = None) -> dict:
     """Work out ``inputs`` with today's core and save it with ``meta``; the new snippet."""
+    return create_once(conn, None, kind, inputs, meta, calculations, now=now)[0]
+
+
+def _digest(kind: str, inputs, meta: dict) -> str:
+    """What a save held, as one digest: every meta field (absent ones as empty), the kind and inputs."""
+    whole = {name: meta.get(name, [] if name == "tags" else "") for name in META_FIELDS}
+    text = json.dumps([kind, inputs, whole], sort_keys=True, ensure_ascii=False, separators=(",", ":"))
+    return hashlib.sha256(text.encode("utf-8", "surrogatepass")).hexdigest()
+
+
+def _saved_under(conn, client_id: str, digest: str) -> dict | None:
+    """The snippet saved with ``client_id`` (in the bin or not), if any; ``IdTaken`` if it held something else."""
+    row = conn.execute("SELECT id, client_digest, deleted_at FROM snippet WHERE client_id = ?", (client_id,)).fetchone()
+    if row is None:
+        return None
+    snippet = get(conn, row["id"], deleted=row["deleted_at"] is not None)
+    if row["client_digest"] != digest:
+        raise IdTaken(snippet)
+    return snippet
+
+
+def create_once(
+    conn, client_id, kind: str, inputs: dict, meta: dict, calculations: dict, *, now: datetime | None = None
+) -> tuple[dict, bool]:
+    """Like ``create``, kept once per ``client_id`` (the sender's id for this save): ``(snippet, created)``.
+
+    The same id with the same contents again gives the snippet saved the first
+    time (``created`` false), even if it was edited since; the same id with other
+    contents raises ``IdTaken``. Without an id every call saves a new snippet.
+    """
+    client_id = check_client_id(client_id)
     kind = check_kind(kind, calculations)
     meta = check_meta(meta)
+    digest = _digest(kind, inputs, meta) if client_id else None
+    if client_id and (found := _saved_under(conn, client_id, digest)) is not None:
+        return found, False  # a repeat: found before the core is asked, so today's core cannot refuse it
     results = compute(kind, inputs, calculations)
     stamp = now_text(now)
     row = {
@@ -207,8 +254,15 @@ def create(conn, kind: str, inputs: dict, meta: dict, calculations: dict, *, now
         "version": 1,
     }
     with transaction(conn):
+        if client_id and (found := _saved_under(conn, client_id, digest)) is not None:
+            return found, False  # sent twice at once: the other request saved it first
         cursor = insert_row(conn, row)
-    return get(conn, cursor.lastrowid)
+        if client_id:
+            conn.execute(
+                "UPDATE snippet SET client_id = ?, client_digest = ? WHERE id = ?",
+                (client_id, digest, cursor.lastrowid),
+            )
+    return get(conn, cursor.lastrowid), True
 
 
 def _check_version(version) -> int:
