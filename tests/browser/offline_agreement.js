@@ -18,6 +18,8 @@
       menus: attr("[data-set-menu]", ["data-set-menu", "data-value"]).map((pair) => pair.join("=")),
       links: attr("a[href]", ["href"]).map((pair) => pair[0]),
       inputs: attr('.save-snippet input[name="inputs"]', ["value"]).map((pair) => JSON.parse(pair[0])),
+      // the rest of the save form (title, client_id, kind; the outbox's mark), all but the session's token
+      saveForm: attr(".save-snippet", ["data-outbox"]).concat(attr('.save-snippet input:not([name="inputs"]):not([name="csrf_token"])', ["name", "value"])).map((pair) => pair.join("=")),
       drawing: attr("rect.layer", ["y", "height"]).flat().map(Number),
       text: doc.body.textContent.replace(/\s+/g, " ").trim(),
     };
@@ -52,6 +54,7 @@
     });
     if (server.menus.join() !== phone.menus.join()) say("menus", server.menus, phone.menus);
     if (server.links.join() !== phone.links.join()) say("links", server.links, phone.links);
+    if (server.saveForm.join("|") !== phone.saveForm.join("|")) say("save form", server.saveForm, phone.saveForm);
     if (server.inputs.length !== phone.inputs.length || !server.inputs.every((v, i) => sameValues(v, phone.inputs[i]))) say("saved inputs", server.inputs, phone.inputs);
     if (server.drawing.length !== phone.drawing.length || !server.drawing.every((v, i) => Math.abs(v - phone.drawing[i]) <= 0.011)) say("drawing", server.drawing, phone.drawing);
     if (c.words && server.text !== phone.text) say("text", server.text, phone.text);

@@ -12,6 +12,7 @@ import json
 import shutil
 import subprocess
 import sys
+import time
 import urllib.request
 from pathlib import Path
 
@@ -30,6 +31,13 @@ SHOP = "Press-floor-2741"
 def snippets_on(base: str) -> list[dict]:
     with urllib.request.urlopen(f"{base}/api/v1/snippets?limit=500", timeout=5) as response:
         return json.load(response)["snippets"]
+
+
+def wait_for_snippets(base: str, count: int, seconds: float = 15.0) -> None:
+    """Until the server lists ``count`` snippets (the last answer may still be on its way to the page)."""
+    deadline = time.monotonic() + seconds
+    while len(snippets_on(base)) < count and time.monotonic() < deadline:
+        time.sleep(0.2)
 
 
 def result_on_screen(page, path: str, field: str, value: str, shown: str):
@@ -165,6 +173,7 @@ def serve_build(folder: Path, data: Path, port: int):
 
 
 OUTBOX_EMPTY = """async () => {
+    if (!window.idbKeyval) return false;  // loaded by js/inkfilm.js when saves wait
     const kept = await idbKeyval.values(idbKeyval.createStore("inkfilm-outbox", "saves"));
     return kept.length === 0;
 }"""
@@ -205,5 +214,6 @@ def test_a_new_build_is_taken_up_and_sends_what_the_old_one_kept(open_context, t
         expect(page.locator("#outbox-link")).to_be_hidden()
         assert build_of(page) != old_build
         expect(page.locator("#new-build")).to_be_hidden()
+        wait_for_snippets(base, 1)
         saved = snippets_on(base)
         assert len(saved) == 1 and saved[0]["inputs"]["anilox_volume"] == "4.0 BCM/in2"

@@ -7,10 +7,12 @@ versioned file can be cached for a year and a new build is fetched at once.
 
 from __future__ import annotations
 
+import gzip
 import hashlib
-from functools import cache
+from functools import cache, lru_cache
 from pathlib import Path
 
+import brotli  # Flask-Compress's own dependency
 from flask import Response, current_app, request, url_for
 
 ONE_YEAR = 365 * 24 * 3600
@@ -33,7 +35,38 @@ def prepare_static(response: Response) -> Response:
         response.cache_control.public = True
         response.cache_control.max_age = ONE_YEAR
         response.cache_control.immutable = True
+    _compress_best(response)
     return response
+
+
+# Static text compressed at the best level once per build (they are part of every first
+# load); pages and answers are left to Flask-Compress's quicker default level.
+COMPRESSIBLE = {"text/css", "text/javascript", "application/javascript", "application/manifest+json", "image/svg+xml"}
+MIN_SIZE = 500
+
+
+def _compress_best(response: Response) -> None:
+    accepted = request.accept_encodings
+    encoding = next((name for name in ("br", "gzip") if accepted[name]), None)
+    if encoding is None or response.mimetype not in COMPRESSIBLE or "Content-Encoding" in response.headers:
+        return
+    body = response.get_data()
+    if len(body) < MIN_SIZE:
+        return
+    response.set_data(_compressed(request.path, build_version(), encoding, body))
+    response.headers["Content-Encoding"] = encoding
+    etag, weak = response.get_etag()
+    if etag:
+        response.set_etag(f"{etag}:{encoding}", weak=weak)
+    response.vary.add("Accept-Encoding")
+    response.make_conditional(request)  # a 304 for the compressed file's own ETag
+
+
+@lru_cache(maxsize=256)
+def _compressed(path: str, version: str, encoding: str, body: bytes) -> bytes:
+    if encoding == "br":
+        return brotli.compress(body, quality=11)
+    return gzip.compress(body, compresslevel=9, mtime=0)
 
 
 @cache

@@ -23,8 +23,6 @@ STATIC_FILES = (
     "css/inkfilm.css",
     "css/print.css",
     "js/inkfilm.js",
-    "vendor/idb-keyval-6.3.0.umd.js",
-    "js/outbox.js",
     "inkfilm.webmanifest",
     "icons/inkfilm.svg",
 )

@@ -26,8 +26,9 @@ from calc.display import UNIT_LABELS
 from calc.errors import InputError
 from calc.offline import document as core_document
 from calc.units import parse_unit
-from webapp.calculators import convert, film
+from webapp.calculators import BY_KIND, convert, film, kind_name
 from webapp.common import forms
+from webapp.snippets import rules as snippet_rules
 
 # The unit menus a typed unit may set, by the name the phone uses for them.
 MENUS = {
@@ -113,6 +114,14 @@ def form_document() -> dict:
             "too_large": _message(lambda: forms.parse_number("1e99", "x")),
             "percent_range": _message(lambda: forms.parse_percent("101", "x")),
             "choose": _message(lambda: forms.choose("?", (), "x")),
+        },
+        # "Save this…" under an answer worked out on the phone: the title it gets if it waits
+        # in the outbox, as webapp/snippets/pages.py names it (kind's name: main input).
+        "saving": {
+            "title_limit": snippet_rules.LIMITS["title"],
+            "kinds": {
+                kind: {"name": kind_name(kind), "main": BY_KIND[kind].main_input} for kind in ("equivalents", "film")
+            },
         },
         "converter": {"form_fields": convert.FORM_FIELDS, "defaults": convert.DEFAULTS},
         "film": {

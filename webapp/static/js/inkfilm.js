@@ -168,7 +168,67 @@
     if (event.target.closest && event.target.closest("[data-print]")) window.print();
   });
 
+  // --- The outbox (js/outbox.js and idb-keyval), loaded only when needed ---------
+  // Not part of the first load: loaded when a page lists the outbox, when saves wait
+  // on this phone, when "Save this…" is pressed, and once the server has answered a
+  // calculation with a save button (so the service worker keeps it for a save offline).
+  var outboxLink = document.getElementById("outbox-link");
+  var outboxLoad = null;
+  function loadOutbox() {
+    if (!outboxLoad) outboxLoad = new Promise(function (done, fail) {
+      var urls = outboxLink ? outboxLink.getAttribute("data-scripts").split(" ") : [];
+      (function next(i) {
+        if (i === urls.length) return done();
+        var script = document.createElement("script");
+        script.src = urls[i];
+        script.onload = function () { next(i + 1); };
+        script.onerror = fail;
+        document.head.appendChild(script);
+      })(0);
+    });
+    return outboxLoad;
+  }
+  function savesWaiting(then) {
+    // The outbox's own store (idb-keyval's createStore("inkfilm-outbox", "saves")), only counted here.
+    if (!window.indexedDB) return;
+    var ask = indexedDB.databases ? indexedDB.databases() : Promise.resolve([{ name: "inkfilm-outbox" }]);
+    ask.then(function (all) {
+      if (!all.some(function (d) { return d.name === "inkfilm-outbox"; })) return;
+      var open = indexedDB.open("inkfilm-outbox");
+      open.onupgradeneeded = function () { open.result.createObjectStore("saves"); };
+      open.onsuccess = function () {
+        var count = open.result.transaction("saves").objectStore("saves").count();
+        count.onsuccess = function () { open.result.close(); if (count.result) then(); };
+      };
+    }, function () {});
+  }
+  if (outboxLink) {
+    if (document.querySelector("[data-outbox-list], [data-outbox-section]")) loadOutbox();
+    else savesWaiting(loadOutbox);
+    document.addEventListener("submit", function (event) {
+      var form = event.target;
+      if (window.inkfilmOutboxReady || !form.matches("form[data-outbox]")) return;
+      event.preventDefault();
+      loadOutbox().then(function () { form.requestSubmit(); }, function () { form.submit(); });
+    });
+    document.body.addEventListener("htmx:afterRequest", function (event) {
+      var xhr = event.detail.xhr;
+      if (event.detail.successful && !(xhr && xhr.getResponseHeader("X-Inkfilm-Worked-Out"))
+          && document.querySelector("form[data-outbox]")) loadOutbox().catch(function () {});
+    });
+  }
+
   // --- Installable app: the service worker ---------------------------------------
+  // A page drawn by an older build offers a reload when the new build's worker takes over.
+  var controlled = !!(navigator.serviceWorker && navigator.serviceWorker.controller);
+  if (navigator.serviceWorker) navigator.serviceWorker.addEventListener("controllerchange", function () {
+    var note = document.getElementById("new-build");
+    if (controlled && note) note.hidden = false;
+    controlled = true;
+  });
+  document.body.addEventListener("click", function (event) {
+    if (event.target.closest && event.target.closest("[data-reload]")) window.location.reload();
+  });
   if ("serviceWorker" in navigator) {
     // A page opened from the cache shows the numbers it was cached with: ask again.
     if (navigator.serviceWorker.controller) {

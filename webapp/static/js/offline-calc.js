@@ -595,10 +595,15 @@
     }
     function saveButton(kind, body, token) {
       var json = pyJson(body).replace(/</g, "\\u003c").replace(/>/g, "\\u003e").replace(/&/g, "\\u0026").replace(/'/g, "\\u0027");
-      return '<form method="post" action="/snippets/new" class="save-snippet" data-offline>\n' +
+      // The same form as snippets/_save_button.html: the outbox keeps it when the server is out of reach.
+      var saving = forms.saving, spec = saving.kinds[kind], main = spec && body[spec.main];
+      var title = typeof main === "string" ? Array.from(spec.name + ": " + main).slice(0, saving.title_limit).join("") : spec.name;
+      return '<form method="post" action="/snippets/new" class="save-snippet" data-outbox>\n' +
         '  <input type="hidden" name="csrf_token" value="' + escapeHtml(token || "") + '">\n' +
         '  <input type="hidden" name="kind" value="' + kind + '">\n' +
         "  <input type=\"hidden\" name=\"inputs\" value='" + json + "'>\n" +
+        '  <input type="hidden" name="title" value="' + escapeHtml(title) + '">\n' +
+        '  <input type="hidden" name="client_id" value="">\n' +
         '  <button type="submit" class="button button-quiet">Save this…</button>\n</form>\n';
     }
     var NOTE_HTML = '<p class="offline-note" data-offline-note>' + escapeHtml(NOTE) + "</p>";

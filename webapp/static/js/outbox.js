@@ -1,13 +1,8 @@
 // The phone's outbox and the new-build note; how it works: webapp/outbox/__init__.py.
 (() => {
   "use strict";
-  const sw = navigator.serviceWorker, $$ = (s) => document.querySelectorAll(s);
-  let controlled = !!(sw && sw.controller);
-  if (sw) sw.addEventListener("controllerchange", () => {
-    const note = document.getElementById("new-build");
-    if (controlled && note) note.hidden = false;
-    controlled = true;
-  });
+  window.inkfilmOutboxReady = true;  // from now on, js/inkfilm.js leaves the save forms to this script
+  const $$ = (s) => document.querySelectorAll(s);
   const kv = window.idbKeyval;
   if (!kv || !window.indexedDB) return;
   const store = kv.createStore("inkfilm-outbox", "saves");
@@ -153,10 +148,9 @@
   }
 
   document.addEventListener("click", (event) => {
-    const button = event.target.closest("[data-outbox-send], [data-outbox-open], [data-outbox-discard], [data-reload]");
+    const button = event.target.closest("[data-outbox-send], [data-outbox-open], [data-outbox-discard]");
     if (!button) return;
-    if (button.hasAttribute("data-reload")) window.location.reload();
-    else if (button.hasAttribute("data-outbox-send")) { say("Sending…"); send(); }
+    if (button.hasAttribute("data-outbox-send")) { say("Sending…"); send(); }
     else if (button.hasAttribute("data-outbox-open")) open(button.value);
     else if (confirm("Discard this save? It never reached the server, and it will be gone from this phone.")) {
       kv.del(button.value, store).then(show);
