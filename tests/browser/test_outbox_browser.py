@@ -17,6 +17,7 @@ import urllib.request
 from pathlib import Path
 
 import pytest
+from playwright.sync_api import Error as PlaywrightError
 from playwright.sync_api import expect
 
 from tests.browser.conftest import PHONE
@@ -179,6 +180,24 @@ OUTBOX_EMPTY = """async () => {
 }"""
 
 
+def wait_for_empty_outbox(page, seconds: float = 15.0) -> None:
+    """Until the phone's outbox is empty (its items leave it only once the server acknowledged them).
+
+    Polled from here: ``wait_for_function`` does not wait for an async predicate (its Promise counts
+    as true at once), and a test asleep in Python holds every request of the page, since conftest's
+    route decides in this process; each ``wait_for_timeout`` lets those requests go on.
+    """
+    deadline = time.monotonic() + seconds
+    while True:
+        try:
+            if page.evaluate(OUTBOX_EMPTY):
+                return
+        except PlaywrightError:  # the page was navigating
+            pass
+        assert time.monotonic() < deadline, "the save is still waiting in the outbox"
+        page.wait_for_timeout(200)
+
+
 def build_of(page) -> str:
     return page.evaluate("() => new URL(document.querySelector('link[rel=stylesheet]').href).searchParams.get('v')")
 
@@ -210,7 +229,7 @@ def test_a_new_build_is_taken_up_and_sends_what_the_old_one_kept(open_context, t
         assert snippets_on(base) == []
         context.unroute("**/api/v1/snippets")
         note.get_by_role("button", name="Reload to use it").click()
-        page.wait_for_function(OUTBOX_EMPTY, timeout=15_000)
+        wait_for_empty_outbox(page)
         expect(page.locator("#outbox-link")).to_be_hidden()
         assert build_of(page) != old_build
         expect(page.locator("#new-build")).to_be_hidden()
