@@ -72,6 +72,7 @@ _WORD_SUBSTITUTIONS = [
 ]
 
 
+@lru_cache(maxsize=4096)
 def _normalise(text: str) -> str:
     """The everyday spellings above rewritten as pint reads them (also pint's preprocessor).
 
@@ -86,6 +87,93 @@ def _normalise(text: str) -> str:
 ureg = pint.UnitRegistry(preprocessors=[_normalise], autoconvert_offset_to_baseunit=False)
 ureg.load_definitions(Path(__file__).with_name("trade_units.txt"))
 Q_ = ureg.Quantity
+
+# --- Remembered answers of the registry -----------------------------------------
+# Once the trade units are loaded the registry never changes, so what it makes of
+# a unit spelling or a unit name is the same on every call. pint itself keeps
+# only some of these (single unit names), and works the rest out again on every
+# ``Q_(x, "um")``, ``.to("kg/l")`` and ``f"{q:~P}"``: most of a calculation's
+# time. These caches hold the answers (strings, immutable units and unit
+# containers) keyed on the text pint was given; spellings from outside still
+# pass the guard of ``parse_unit`` first, and every cache is bounded.
+REGISTRY_CACHE_SIZE = 4096
+_REMEMBERED = ("parse_units", "parse_units_as_container", "get_name", "get_symbol")
+for _method in _REMEMBERED:
+    setattr(ureg, _method, lru_cache(maxsize=REGISTRY_CACHE_SIZE)(getattr(ureg, _method)))
+
+_pint_convert = ureg.convert
+
+
+def _offset_free(units) -> bool:
+    """No unit with an offset (degC) in ``units``: pint's test before it converts by a factor alone."""
+    try:
+        return ureg._validate_and_extract(units) is None
+    except (ValueError, pint.errors.UndefinedUnitError):
+        return False
+
+# Conversion factors between pairs of multiplicative units, as pint works them out.
+_FACTORS: dict = {}
+
+
+def _convert(value, src, dst, inplace=False, **ctx_kwargs):
+    """pint's ``convert`` (behind every ``Quantity.to``), by a remembered factor where that is all it does.
+
+    For a float between two units without offset (every unit of the core but
+    the temperatures), with no context, pint multiplies the value by the
+    factor between the units (``PlainRegistry._convert``); this does that same
+    multiplication, so the numbers are identical, without pint's dispatch
+    through its facets on every call. Anything else goes to pint.
+    """
+    if (
+        ctx_kwargs
+        or inplace
+        or type(value) is not float
+        or type(src) is not pint.util.UnitsContainer
+        or type(dst) is not pint.util.UnitsContainer
+    ):
+        return _pint_convert(value, src, dst, inplace, **ctx_kwargs)
+    factor = _FACTORS.get((src, dst))
+    if factor is None:
+        if src == dst:
+            return value
+        if ureg._active_ctx or not (_offset_free(src) and _offset_free(dst)):
+            return _pint_convert(value, src, dst, inplace, **ctx_kwargs)
+        factor = ureg._get_conversion_factor(src, dst)
+        if not isinstance(factor, float):  # a DimensionalityError to raise, or an exact factor
+            return _pint_convert(value, src, dst, inplace, **ctx_kwargs)
+        if len(_FACTORS) < REGISTRY_CACHE_SIZE:
+            _FACTORS[(src, dst)] = factor
+    return value * factor
+
+
+ureg.convert = _convert
+
+
+@lru_cache(maxsize=REGISTRY_CACHE_SIZE)
+def _units_of(unit) -> pint.util.UnitsContainer:
+    return pint.util.to_units_container(unit, ureg)
+
+
+def magnitude_in(quantity, unit) -> float:
+    """``quantity.to(unit).magnitude`` (the same number), without making a Quantity on the way.
+
+    ``unit`` is a fixed spelling of the code (``"um"``, ``"kg/l"``) or a unit
+    :func:`parse_unit` read, never text from outside.
+
+    >>> magnitude_in(Q_(1.0, "BCM/in2"), "cm3/m2") == Q_(1.0, "BCM/in2").to("cm3/m2").magnitude
+    True
+    """
+    return ureg.convert(quantity._magnitude, quantity._units, _units_of(unit))
+
+
+@lru_cache(maxsize=REGISTRY_CACHE_SIZE)
+def _label(units: pint.util.UnitsContainer) -> str:
+    return f"{ureg.Unit(units):~P}"
+
+
+def unit_label(quantity) -> str:
+    """``f"{quantity.units:~P}"`` (pint's short pretty label, e.g. ``"µm"``), worked out once per unit."""
+    return _label(quantity._units)
 
 # --- Plain names for dimensions ---------------------------------------------
 
@@ -350,8 +438,8 @@ def require_dimension(quantity, dimensionality, field: str | None, what: str, ex
 def check_range(quantity, low, high, field: str | None, what: str, *, low_inclusive: bool = False):
     """Check ``low < quantity <= high`` (quantities); the message quotes the range in ``high``'s unit."""
     unit = high.units
-    value = quantity.to(unit).magnitude
-    low_value = low.to(unit).magnitude
+    value = magnitude_in(quantity, unit)
+    low_value = magnitude_in(low, unit)
     too_low = value < low_value if low_inclusive else value <= low_value
     if too_low or value > high.magnitude:
         bound = "at least" if low_inclusive else "more than"
