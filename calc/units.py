@@ -36,6 +36,8 @@ to :data:`MAX_MAGNITUDE` can overflow. Anything else is an
 from __future__ import annotations
 
 import math
+import os
+import pickle
 import re
 from functools import lru_cache
 from pathlib import Path
@@ -84,8 +86,51 @@ def _normalise(text: str) -> str:
     return text
 
 
-ureg = pint.UnitRegistry(preprocessors=[_normalise], autoconvert_offset_to_baseunit=False)
-ureg.load_definitions(Path(__file__).with_name("trade_units.txt"))
+def cache_folder(kind: str) -> Path | None:
+    """inkfilm's folder for ``kind`` of remembered work (pint's definitions, compressed static files).
+
+    ``INKFILM_CACHE_DIR`` if set, else ``$XDG_CACHE_HOME/inkfilm`` or
+    ``~/.cache/inkfilm``; made on first use, readable by its owner only. None
+    when it cannot be made (a read-only home): then nothing is remembered
+    between starts, and nothing else changes.
+    """
+    base = os.environ.get("INKFILM_CACHE_DIR")
+    if not base:
+        xdg = os.environ.get("XDG_CACHE_HOME")
+        base = os.path.join(xdg, "inkfilm") if xdg and os.path.isabs(xdg) else os.path.join("~", ".cache", "inkfilm")
+    folder = Path(base).expanduser() / kind
+    try:
+        folder.mkdir(parents=True, exist_ok=True, mode=0o700)
+        if not os.access(folder, os.W_OK | os.X_OK):
+            return None
+    except OSError:
+        return None
+    return folder
+
+
+def _build_registry() -> pint.UnitRegistry:
+    """pint's registry with the trade units; pint keeps its parsed definition files in the cache folder.
+
+    pint's own definition cache (``cache_folder``) holds the parsed files keyed
+    on their content, so a start after the first skips most of the ~0.5 s of
+    reading them; the registry is the same either way
+    (``tests/calc/test_units_cache.py``).
+    """
+    folder = cache_folder("pint")
+    try:
+        registry = pint.UnitRegistry(
+            preprocessors=[_normalise], autoconvert_offset_to_baseunit=False, cache_folder=folder
+        )
+        registry.load_definitions(TRADE_UNITS)
+    except (OSError, EOFError, ValueError, pickle.UnpicklingError):
+        # A cache file another process is writing, or a damaged one: read the files afresh.
+        registry = pint.UnitRegistry(preprocessors=[_normalise], autoconvert_offset_to_baseunit=False)
+        registry.load_definitions(TRADE_UNITS)
+    return registry
+
+
+TRADE_UNITS = Path(__file__).with_name("trade_units.txt")
+ureg = _build_registry()
 Q_ = ureg.Quantity
 
 # --- Remembered answers of the registry -----------------------------------------
@@ -110,6 +155,7 @@ def _offset_free(units) -> bool:
         return ureg._validate_and_extract(units) is None
     except (ValueError, pint.errors.UndefinedUnitError):
         return False
+
 
 # Conversion factors between pairs of multiplicative units, as pint works them out.
 _FACTORS: dict = {}
@@ -174,6 +220,7 @@ def _label(units: pint.util.UnitsContainer) -> str:
 def unit_label(quantity) -> str:
     """``f"{quantity.units:~P}"`` (pint's short pretty label, e.g. ``"µm"``), worked out once per unit."""
     return _label(quantity._units)
+
 
 # --- Plain names for dimensions ---------------------------------------------
 

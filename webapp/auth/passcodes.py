@@ -84,6 +84,10 @@ def init_app(app) -> None:
         SESSION_COOKIE_HTTPONLY=True,
         SESSION_COOKIE_SAMESITE="Strict",
         PERMANENT_SESSION_LIFETIME=90 * 24 * 3600,
+        # The cookie is sent again only when the session changes (a new CSRF token, an
+        # unlock, a lock), not on every answer: an unlock carries its own end
+        # ("until"), so renewing the cookie's date on each request bought nothing.
+        SESSION_REFRESH_EACH_REQUEST=False,
     )
     app.extensions["inkfilm_throttle"] = Throttle(
         free_tries=app.config.get("PASSCODE_FREE_TRIES", 3),
