@@ -195,6 +195,34 @@ def _convert(value, src, dst, inplace=False, **ctx_kwargs):
 ureg.convert = _convert
 
 
+_pint_new = Q_.__new__
+
+
+def _new_quantity(cls, value, units=None):
+    """``Q_(value, units)`` for a plain number and a unit spelling or container, as pint makes it.
+
+    pint's constructor checks for arrays, dask and other wrapped types on every
+    call; for a float or int with a unit spelling of the code (or a unit pint
+    already parsed) it then keeps the number as it is and the parsed unit. This
+    does only that (the same two attributes); anything else goes to pint.
+    """
+    kind = type(value)
+    if cls is Q_ and (kind is float or kind is int) and units is not None:
+        unit_kind = type(units)
+        if unit_kind is str:
+            units = ureg.parse_units(units)._units
+        elif unit_kind is not pint.util.UnitsContainer:
+            return _pint_new(cls, value, units)
+        quantity = object.__new__(cls)
+        quantity._magnitude = value
+        quantity._units = units
+        return quantity
+    return _pint_new(cls, value, units)
+
+
+Q_.__new__ = staticmethod(_new_quantity)
+
+
 @lru_cache(maxsize=REGISTRY_CACHE_SIZE)
 def _units_of(unit) -> pint.util.UnitsContainer:
     return pint.util.to_units_container(unit, ureg)
