@@ -4,6 +4,7 @@ styled page."""
 
 from __future__ import annotations
 
+import os
 import shutil
 import subprocess
 import sys
@@ -55,9 +56,16 @@ def test_an_installed_wheel_serves_a_styled_page(tmp_path):
             response = client.get(url)
             assert response.status_code == 200 and len(response.get_data()) > 100, url
         css = client.get(sheet).get_data(as_text=True)
+        # Compressed once into a fresh cache folder, from the installed package's files.
+        squeezed = client.get(sheet, headers={"Accept-Encoding": "br"})
+        assert squeezed.headers["Content-Encoding"] == "br", squeezed.headers
+        assert "immutable" in squeezed.headers["Cache-Control"]
+        import os, pathlib
+        assert any((pathlib.Path(os.environ["INKFILM_CACHE_DIR"]) / "static").glob("*/css/inkfilm.css.br"))
         print("ok", len(page), len(css))
         """
     )
-    result = subprocess.run([python, "-c", script], cwd=tmp_path, capture_output=True, text=True, timeout=120)
+    env = {**os.environ, "INKFILM_CACHE_DIR": str(tmp_path / "cache")}
+    result = subprocess.run([python, "-c", script], cwd=tmp_path, env=env, capture_output=True, text=True, timeout=120)
     assert result.returncode == 0, result.stderr
     assert result.stdout.startswith("ok ")
