@@ -13,7 +13,6 @@ import io
 import json
 import sqlite3
 
-import segno
 from flask import (
     Blueprint,
     Response,
@@ -214,6 +213,8 @@ def qr(snippet_id: int):
     _load(snippet_id)
     url = url_for("snippets.short_link", snippet_id=snippet_id, _external=True)
     out = io.BytesIO()
+    import segno  # only when a QR code is drawn: not at every start
+
     segno.make(url, error="m").save(out, kind="svg", scale=6, border=2, xmldecl=False, title=url)
     response = Response(out.getvalue(), mimetype="image/svg+xml")
     response.headers["Cache-Control"] = "no-cache"
