@@ -337,8 +337,9 @@ def section_start(args) -> list[str]:
             if run:
                 for name, seconds in json.loads(result.stdout).items():
                     parts.setdefault(name, []).append(seconds)
-        for run in range(REPEATS + 1):
-            with tempfile.TemporaryDirectory() as folder:
+        # One data folder for every start, as a shop's server starts again (its caches are in it).
+        with tempfile.TemporaryDirectory() as folder:
+            for run in range(REPEATS + 1):
                 port = free_port()
                 command = [sys.executable, "-m", "webapp.cli", "serve", "--no-https", "--host", "127.0.0.1"]
                 command += ["--port", str(port), "--data-dir", folder]

@@ -106,6 +106,10 @@ def serve_worker(args) -> int:
     if problem:
         print(f"inkfilm: {problem}; give a --data-dir the server may write to", file=sys.stderr)
         return 2
+    # The server's remembered work (pint's definitions, compressed static files) stays
+    # in its data folder like everything else it writes, unless INKFILM_CACHE_DIR says where.
+    # Set before calc.units is first imported (create_app imports it).
+    os.environ.setdefault("INKFILM_CACHE_DIR", str(data_dir / "cache"))
     config = {"DATA_DIR": str(data_dir), "DEMO": args.demo}
     shop = args.shop_passcode or os.environ.get("INKFILM_SHOP_PASSCODE")
     supervisor = args.supervisor_passcode or os.environ.get("INKFILM_SUPERVISOR_PASSCODE")
