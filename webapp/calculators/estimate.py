@@ -517,6 +517,12 @@ def estimate_form() -> dict:
         ):
             station["price_unit"] = "kg"  # a form from before prices per lb
         stations.append(station)
+    if not posted:
+        # A link may fill the first station's anilox (the roll register's "job estimate with this roll");
+        # the values are checked like typed ones.
+        stations[0].update(
+            {key: request.args[key][:40] for key in ("anilox_volume", "anilox_unit") if key in request.args}
+        )
     if action == "add" and len(stations) < MAX_STATIONS:
         stations.append(station_defaults(len(stations), system) | {"name": f"Station {len(stations) + 1}"})
     elif action.startswith("remove-") and len(stations) > 1:
