@@ -230,3 +230,30 @@ def test_the_demo_shop_has_its_stories_and_is_filled_once(tmp_path):
     assert rolls["NW-104"]["wear"]["flags"] == [] and rolls["NW-104"]["wear"]["plugging"] > 0.1
     healthy = [r for r in rolls.values() if not r["wear"]["flags"]]
     assert len(healthy) > len(rolls) / 2
+
+
+def test_the_fit_form_and_the_overview_filter_answer_htmx_with_their_fragment_and_the_messages_beside_the_fields(
+    client,
+):
+    add_roll(client, roll_id="H-1", certificate_volume=None)
+    live = {"HX-Request": "true"}
+    full = client.get("/rolls/fit?plate_screen=150&work=process").get_data(as_text=True)
+    assert 'hx-get="/rolls/fit"' in full and 'hx-target="#fit-answer"' in full and 'id="fit-answer"' in full
+    answer = client.get("/rolls/fit?plate_screen=150&work=process", headers=live)
+    assert answer.headers["Vary"].count("HX-Request") == 1 and "no-cache" in answer.headers["Cache-Control"]
+    text = answer.get_data(as_text=True)
+    assert "<html" not in text and "H-1" in text and "roll" in text
+    # The slots beside the fields are refilled out of band: emptied when fine, the message when not.
+    assert '<div id="slot-plate_screen" class="error-slot" hx-swap-oob="innerHTML"></div>' in text
+    bad = client.get("/rolls/fit?plate_screen=abc&work=process", headers=live).get_data(as_text=True)
+    assert re.search(
+        r'id="slot-plate_screen" class="error-slot" hx-swap-oob="innerHTML"><p[^>]*>[^<]*not a number', bad
+    )
+
+    listing = client.get("/rolls?status=spare", headers=live).get_data(as_text=True)
+    assert "<html" not in listing and "H-1" not in listing and "No rolls match these filters" in listing
+    assert "H-1" in client.get("/rolls?status=in_use", headers=live).get_data(as_text=True)
+    refused = client.get("/rolls?screen_min=fine", headers=live).get_data(as_text=True)
+    assert re.search(r'id="slot-screen_min" class="error-slot" hx-swap-oob="innerHTML"><p[^>]*>must be a line', refused)
+    page = client.get("/rolls").get_data(as_text=True)
+    assert 'hx-target="#rolls-list"' in page and 'id="rolls-list"' in page and "hx-swap-oob" not in page

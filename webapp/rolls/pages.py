@@ -21,6 +21,7 @@ from webapp.auth.csrf import protect
 from webapp.auth.gate import form_gate
 from webapp.common.db import get_db
 from webapp.common.forms import choose, parse_number
+from webapp.common.htmx import respond
 from webapp.rolls import chart, exchange, register, rules, shown, store
 
 bp = Blueprint("rolls", __name__)
@@ -94,8 +95,9 @@ def index():
         unit=shown.volume_unit(),
     )
     counts = {code: sum(1 for _, wear in rows if code in wear.codes) for code in register.FLAG_NAMES}
-    return render_template(
+    return respond(
         "rolls/index.html",
+        "rolls/_list.html",
         rows=rows,
         filters=filters,
         errors=errors,
@@ -309,8 +311,9 @@ def fit():
             )
         except InputError as exc:
             errors[exc.field or "work"] = exc.message
-    return render_template(
+    return respond(
         "rolls/fit.html",
+        "rolls/_fit_answer.html",
         form=form,
         answer=answer,
         errors=errors,
