@@ -149,7 +149,7 @@ def test_the_overview_filter_updates_the_list_in_place(open_context, demo_shop):
     expect(page.locator("#e-screen_min")).to_contain_text("must be a line screen")
     page.get_by_label("Screen from (lpi)").fill("800")
     expect(page.locator("#e-screen_min")).to_have_count(0)
-    for cell in page.locator(".rolls-table tbody td:nth-child(2)").all():
+    for cell in page.locator(".rolls-table tbody td:nth-child(3)").all():
         assert float(cell.inner_text().split()[0]) >= 800
     assert page.evaluate("window.stillThisPage") is True
 
