@@ -24,6 +24,7 @@ from __future__ import annotations
 import math
 from dataclasses import dataclass, field
 
+from calc import practice
 from calc.errors import InputError
 from calc.film import parse_anilox_volume
 from calc.steps import Count, Money, Step, Working
@@ -65,14 +66,8 @@ ON_HAND_VOLUME_HIGH = Q_(100_000.0, "l")
 # The avoirdupois pound, exactly (NIST SP 811, Appendix B).
 KG_PER_LB = 0.45359237
 
-# Rough coverages by kind of artwork, for a page to offer as a starting point
-# (common practice, from memory; not a measurement: measure the artwork where it matters).
-TYPICAL_COVERAGES = {
-    "light text": 0.10,
-    "medium": 0.30,
-    "heavy": 0.60,
-    "solid": 1.00,
-}
+# Rough coverages by kind of artwork live with the other common-practice values.
+TYPICAL_COVERAGES = practice.TYPICAL_COVERAGES
 
 
 @dataclass(frozen=True)
