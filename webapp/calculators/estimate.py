@@ -13,7 +13,7 @@ import io
 import json
 from datetime import date
 
-from flask import Response, current_app, has_app_context, request
+from flask import Response, abort, current_app, has_app_context, render_template, request
 
 from calc import InputError, practice
 from calc.display import format_money, format_number, format_percent, show_value, unit_label
@@ -30,7 +30,7 @@ from calc.estimate import (
 from calc.film import ANILOX_VOLUME_HIGH
 from calc.units import DENSITY_HIGH, DENSITY_LOW
 from webapp.calculators.spec import Answer, Calculator
-from webapp.common.formatting import both, currency, field_name, steps
+from webapp.common.formatting import both, currency, field_name, shown, steps, when
 from webapp.common.forms import (
     FormValues,
     choose,
@@ -664,6 +664,43 @@ def _folded(form: dict, errors: dict) -> list[bool]:
     return folded
 
 
+def entered(body: dict) -> dict:
+    """The inputs as the printout lists them, read from the API request body (as a saved estimate keeps it)."""
+
+    def text(key, value):
+        if isinstance(value, str) and " " in value.strip():  # "300.0 mm" as the page wrote it: 300 mm
+            amount, _, unit = value.strip().rpartition(" ")
+            try:
+                return f"{format_number(float(amount))} {unit_label(unit)}"
+            except ValueError:
+                pass
+        return "—" if value is None else shown(key, value, shares=SHARES, money=MONEY)
+
+    rows = []
+    for station in body.get("stations", []):
+        if "inked_area_per_label" in station:
+            cover = f"{text('area', station['inked_area_per_label'])} a label"
+        else:
+            cover = text("coverage", station.get("coverage"))
+        price = "—"
+        for per in PRICE_UNITS:
+            if station.get(f"price_per_{per}") is not None:
+                price = f"{currency(format_money(float(station[f'price_per_{per}'])))}/{per}"
+        rows.append(
+            [
+                station.get("name", ""),
+                text("anilox_volume", station.get("anilox_volume")),
+                cover,
+                text("transfer", station.get("transfer")),
+                text("ink_density", station.get("ink_density")),
+                price,
+                text("fill", station.get("fill")),
+                text("on_hand", station.get("on_hand")),
+            ]
+        )
+    return {"web_width": text("web_width", body.get("web_width")), "rows": rows}
+
+
 def _share_hint(text) -> str | None:
     """ "Did you mean 50 %?" for a share typed as 0.5 in a percentage field (a hint: the value is used as typed)."""
     try:
@@ -752,7 +789,7 @@ def _work_out(form: dict, context: dict, *, live: bool) -> None:
     """Fill ``context`` with the estimate of ``form`` (or its errors and what is not yet updated)."""
     try:
         body = form_body(form)
-        context.update(snippet_inputs=body, estimate=present(run(body), current_system()))
+        context.update(snippet_inputs=body, estimate=present(run(body), current_system()), entered=entered(body))
         context["csv_body"] = json.dumps(body, separators=(",", ":"))
     except InputError as exc:
         errors = field_errors(exc, _renames(form))
@@ -764,9 +801,40 @@ def _work_out(form: dict, context: dict, *, live: bool) -> None:
             context["status"] = "Not yet updated: fix the value marked beside its field."
 
 
+def saved_page(text: str):
+    """``/estimate?snippet=<id>``: a saved estimate as the page shows it, with the same Print and CSV.
+
+    Worked out with today's core from the saved inputs (the saved snippet's page compares them
+    with the results as saved); the header holds the snippet's job, press, who saved it and when.
+    """
+    from webapp.common.db import get_db
+    from webapp.snippets import store
+
+    try:
+        snippet = store.get(get_db(), int(text))
+    except (ValueError, OverflowError, store.NotFound):
+        abort(404)
+    if snippet["kind"] != "estimate":
+        abort(404)
+    context = {"snippet": snippet, "estimate": None, "error": None, "currency": current_app.config.get("CURRENCY", "")}
+    try:
+        body = snippet["inputs"]
+        context.update(estimate=present(run(dict(body)), current_system()), entered=entered(body))
+        context["csv_body"] = json.dumps(body, separators=(",", ":"))
+    except InputError as exc:
+        context["error"] = exc
+    meta = [("Job", snippet.get("job_number")), ("Press", snippet.get("press")), ("Station", snippet.get("station"))]
+    meta += [("Prepared by", snippet.get("saved_by")), ("Saved", when(snippet.get("created_at")))]
+    context["ticket"] = [(label, value) for label, value in meta if value]
+    context["today"] = snippet["title"]
+    return render_template("calculators/estimate_saved.html", **context)
+
+
 def page():
     if request.method == "GET" and "csv" in request.args:
         return csv_download(request.args.get("csv", ""))
+    if request.method == "GET" and "snippet" in request.args:
+        return saved_page(request.args.get("snippet", ""))
     form = estimate_form()
     action = request.form.get("action", "") if request.method == "POST" else ""
     target = request.headers.get("HX-Target") if is_htmx() else None
@@ -779,6 +847,7 @@ def page():
         "today": date.today().isoformat(),
         "density_hint": density_hint(current_system()),
         "ticket_fields": TICKET_FIELDS,
+        "ticket": [(label, form[name]) for name, label in TICKET_FIELDS if form[name].strip()],
         "currency": current_app.config.get("CURRENCY", ""),
         "snippet_kind": "estimate",
         "max_stations": MAX_STATIONS,
@@ -802,11 +871,11 @@ def page():
         # The station just added is empty: keep the totals of the stations before it, marked so.
         before = FormValues(form)
         before["stations"] = form["stations"][:-1]
-        shown = {"errors": {}, "estimate": None, "status": None}
-        _work_out(before, shown, live=True)
-        if shown["estimate"] is not None:
+        earlier = {"errors": {}, "estimate": None, "status": None}
+        _work_out(before, earlier, live=True)
+        if earlier["estimate"] is not None:
             new = form["stations"][-1]["name"]
-            context.update(shown, status=f"Not yet updated: {new} counts once its fields are filled in.")
+            context.update(earlier, status=f"Not yet updated: {new} counts once its fields are filled in.")
             context.pop("snippet_inputs", None)
     elif context["estimate"] is not None and action == "csv" and not is_htmx():
         return csv_download(context["csv_body"])  # the no-script page's download button
