@@ -204,3 +204,30 @@ def test_twelve_stations_print_on_one_page_and_read_on_a_phone(open_context, scr
     text = page.locator("body").inner_text()
     assert page.locator('[data-key="total_mass"]').text_content() in text
     page.screenshot(path=str(screenshots / "estimate-12-print-desktop.png"), full_page=True)
+
+
+def test_a_full_twelve_station_labels_job_prints_on_one_a4_and_one_letter_page(open_context, screenshots):
+    # The longest printout: twelve stations, each with a price, a system fill and ink on hand (so twelve
+    # verdicts and a per-1,000 row each), the printout's header filled in.
+    body = json.loads(json.dumps(API_BODY))
+    body["stations"] = [
+        {**API_BODY["stations"][i % 2], "name": f"Unit {i + 1} {'spot green' if i % 2 else 'process cyan'}"}
+        for i in range(12)
+    ]
+    page = open_context(DESKTOP).new_page()
+    saved = page.request.post(
+        "/api/v1/snippets",
+        data=json.dumps({"kind": "estimate", "inputs": body, "title": "Twelve colours", "job_number": "J-9912"}),
+        headers={"Content-Type": "application/json"},
+    )
+    assert saved.status == 201, saved.text()
+    page.goto(f"/estimate?snippet={saved.json()['id']}")
+    answer = api(page, body)
+    expect(page.locator(".on-hand-list li")).to_have_count(12)
+    expect(page.locator(".per-1000-table tbody tr")).to_have_count(12)
+    for paper in ("A4", "Letter"):
+        page.emulate_media(media="print")
+        data = page.pdf(path=str(screenshots / f"estimate-12-full-{paper}.pdf"), format=paper)
+        assert len(A4_PAGES.findall(data)) == 1, f"a full twelve-station job spills onto a second {paper} page"
+    shown = page.locator("body").inner_text()
+    assert format_money(answer["cost_per_1000_labels"]) in shown and "J-9912" in shown
