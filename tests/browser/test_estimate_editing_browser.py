@@ -198,6 +198,9 @@ def test_twelve_stations_print_on_one_page_and_read_on_a_phone(open_context, scr
     assert page.evaluate("document.documentElement.scrollWidth - document.documentElement.clientWidth") <= 0
     page.screenshot(path=str(screenshots / "estimate-12-stations-full-phone.png"), full_page=True)
     page.locator("#estimate-result").screenshot(path=str(screenshots / "estimate-12-stations-result-phone.png"))
+    page.emulate_media(media="print")  # to look at; printed from a phone it is laid out on the paper (PDF below)
+    page.screenshot(path=str(screenshots / "estimate-12-print-phone.png"), full_page=True)
+    page.emulate_media(media="screen")
     page.set_viewport_size(DESKTOP)
     data = pdf_of(page, screenshots / "estimate-12-print.pdf")
     assert len(A4_PAGES.findall(data)) == 1, "twelve stations spill onto a second page"

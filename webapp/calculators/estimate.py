@@ -23,6 +23,7 @@ from calc.estimate import (
     NAME_MAX,
     REPEAT_HIGH,
     RUN_LENGTH_HIGH,
+    UNIT,
     WEB_WIDTH_HIGH,
     Station,
     job_ink,
@@ -42,7 +43,7 @@ from webapp.common.forms import (
     quantity_text,
 )
 from webapp.common.htmx import is_htmx, respond
-from webapp.common.jsonapi import check_fields, quantity_json
+from webapp.common.jsonapi import check_fields
 from webapp.common.preference import current_system
 
 # Request fields, name → kind (see PHASE2's request-field convention). ``stations`` is a
@@ -111,6 +112,11 @@ def run(body: dict):
             raise InputError(f"{where}.coverage", "is required (or give inked_area_per_label for a labels job)")
         stations.append(Station(**{"coverage": None} | fields))
     return job_ink(stations=stations, **body)
+
+
+def quantity_json(quantity, unit: str) -> dict:
+    """As ``webapp.common.jsonapi.quantity_json``, with the unit parsed once (``calc.estimate.UNIT``)."""
+    return {"value": float(quantity.m_as(UNIT[unit])), "unit": unit}
 
 
 def _optional(item: dict, key: str, value, unit: str | None = None) -> None:
