@@ -137,7 +137,7 @@ TYPICAL_COVERAGES = {
 }
 
 # Press-ready ink densities (common practice, from memory; the ink's data sheet
-# gives its own): most water and solvent inks about 0.9–1.2 g/cm³; opaque whites,
+# gives its own): most water and solvent inks about 0.9–1.1 g/cm³; opaque whites,
 # heavy with titanium dioxide, about 1.3–1.5 g/cm³.
-INK_DENSITY_TYPICAL = Range(Q_(0.9, "g/cm3"), Q_(1.2, "g/cm3"))
+INK_DENSITY_TYPICAL = Range(Q_(0.9, "g/cm3"), Q_(1.1, "g/cm3"))
 WHITE_DENSITY_TYPICAL = Range(Q_(1.3, "g/cm3"), Q_(1.5, "g/cm3"))

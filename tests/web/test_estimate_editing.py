@@ -185,7 +185,7 @@ def test_the_rough_menu_offers_typical_values_and_an_edited_value_loses_the_mark
 
 def test_the_density_hint_says_whites_are_heavier(client):
     page = text(client.get("/estimate"))
-    assert "Most inks 0.9–1.2 g/cm³; opaque whites heavier, about 1.3–1.5 (common practice)." in page
+    assert "Most inks 0.9–1.1 g/cm³; opaque whites heavier, about 1.3–1.5 (common practice)." in page
     client.set_cookie("inkfilm_units", "imperial")
     # 1.3 and 1.5 g/cm³ × 8.345 lb/gal per g/cm³ (NIST Handbook 44 gallon, SP 811 pound)
     assert "opaque whites heavier, about 10.8–12.5 (common practice)" in text(client.get("/estimate"))
