@@ -19,9 +19,15 @@ from __future__ import annotations
 import math
 from dataclasses import dataclass
 from decimal import ROUND_HALF_UP, Decimal
+from functools import lru_cache
 
 from calc.steps import Count, Money
-from calc.units import Q_  # noqa: F401 (Q_ for the doctests)
+from calc.units import Q_, ureg  # noqa: F401 (Q_ for the doctests)
+
+# A unit spelling parsed once: pint parses text afresh on every conversion, and a page with a
+# long working shows a thousand values (benchmarks/estimate_12_stations.py). Spellings here are
+# the program's own or already checked (role units, menu choices); the cache is bounded.
+_unit = lru_cache(maxsize=256)(ureg.Unit)
 
 SIGNIFICANT = 3
 
@@ -46,6 +52,8 @@ UNIT_LABELS = {
     "ft2": "ft²",
     "MSI": "MSI",
     "in2": "in²",
+    "cm2": "cm²",
+    "mm2": "mm²",
     "l": "l",
     "ml": "ml",
     "gal": "US gal",
@@ -135,7 +143,7 @@ def show(quantity, spelling: str, significant: int = SIGNIFICANT) -> Shown:
     >>> str(show(Q_(4.5, "BCM/in2"), "cm3/m2"))
     '6.98 cm³/m²'
     """
-    value = float(quantity.to(spelling).magnitude)
+    value = float(quantity.m_as(_unit(spelling)))
     return Shown(format_number(value, significant), unit_label(spelling), value, spelling)
 
 

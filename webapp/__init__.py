@@ -30,6 +30,8 @@ def create_app(test_config: dict | None = None) -> Flask:
         # The JSON API takes bodies up to 64 KB (webapp.common.jsonapi); this is the
         # app-wide ceiling, for uploads such as an import file.
         MAX_CONTENT_LENGTH=8 * 1024 * 1024,
+        # The shop's currency symbol beside every cost (``inkfilm serve --currency``); none by default.
+        CURRENCY="",
     )
     if test_config:
         app.config.update(test_config)

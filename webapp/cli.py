@@ -69,6 +69,12 @@ def build_parser() -> argparse.ArgumentParser:
         metavar="PASSCODE",
         help="passcode for deleting, the bin and import (or set INKFILM_SUPERVISOR_PASSCODE)",
     )
+    serve.add_argument(
+        "--currency",
+        metavar="SYMBOL",
+        help="the shop's currency symbol or code, shown beside every cost, e.g. € or $ or CHF "
+        "(or set INKFILM_CURRENCY; default none: costs are in the currency of the prices typed)",
+    )
     # The supervisor runs the server itself as a child with this flag (see webapp.watchdog).
     serve.add_argument("--worker", action="store_true", help=argparse.SUPPRESS)
     serve.set_defaults(handler=serve_command)
@@ -107,6 +113,15 @@ def serve_worker(args) -> int:
         print(f"inkfilm: {problem}; give a --data-dir the server may write to", file=sys.stderr)
         return 2
     config = {"DATA_DIR": str(data_dir), "DEMO": args.demo}
+    from webapp.common.formatting import check_currency
+
+    try:
+        config["CURRENCY"] = check_currency(
+            args.currency if args.currency is not None else os.environ.get("INKFILM_CURRENCY", "")
+        )
+    except ValueError as exc:
+        print(f"inkfilm: --currency: {exc}", file=sys.stderr)
+        return 2
     shop = args.shop_passcode or os.environ.get("INKFILM_SHOP_PASSCODE")
     supervisor = args.supervisor_passcode or os.environ.get("INKFILM_SUPERVISOR_PASSCODE")
     front = None

@@ -10,6 +10,8 @@ from __future__ import annotations
 
 import math
 
+from flask import current_app, has_app_context
+
 from calc.display import format_money, format_number, format_percent, role_units, show, show_value, unit_label
 
 
@@ -57,6 +59,35 @@ def field_name(name) -> str:
     return text.replace("_", " ").replace(".", " ").capitalize()
 
 
+CURRENCY_MAX = 8
+
+
+def currency(money_text: str) -> str:
+    """A cost as text with the shop's currency (``CURRENCY`` in the app config, set by
+    ``inkfilm serve --currency``): a symbol goes right before the figure (``€12.50``),
+    a code or word with a space (``CHF 12.50``); without a setting the figure alone.
+    """
+    symbol = current_app.config.get("CURRENCY", "") if has_app_context() else ""
+    if not symbol:
+        return money_text
+    return f"{symbol} {money_text}" if symbol[-1].isalpha() else f"{symbol}{money_text}"
+
+
+def check_currency(text) -> str:
+    """The currency setting, stripped: at most ``CURRENCY_MAX`` printable characters, no digits.
+
+    >>> check_currency(" € "), check_currency("CHF")
+    ('€', 'CHF')
+    """
+    text = str(text or "").strip()
+    if len(text) > CURRENCY_MAX or not all(ch.isprintable() and not ch.isdigit() for ch in text):
+        raise ValueError(
+            f"the currency must be a symbol or short code of at most {CURRENCY_MAX} characters without digits, "
+            "e.g. € or $ or CHF"
+        )
+    return text
+
+
 def shown(key, value, *, shares=frozenset(), money=frozenset()) -> str:
     """A saved input or answer as the floor reads it: shares as percentages,
     money to the cent, quantities rounded with their unit labels.
@@ -73,7 +104,7 @@ def shown(key, value, *, shares=frozenset(), money=frozenset()) -> str:
             if key in shares:
                 return f"{format_percent(value)} %"
             if key in money and math.isfinite(value):
-                return format_money(value)
+                return currency(format_money(value))
         except OverflowError:  # a whole number too large for a float, as a stored file may hold
             return "—"
         return number(value)
