@@ -334,3 +334,44 @@ def test_another_kind_of_snippet_is_not_an_estimate(client):
     response = client.post("/api/v1/snippets", json=film)
     assert response.status_code == 201, response.get_json()
     assert client.get(f"/estimate?snippet={response.get_json()['id']}").status_code == 404
+
+
+# --- a station's ink from the shop's list ---------------------------------------------------
+
+
+def test_a_station_picks_an_ink_from_the_shop_s_list_and_gets_its_density_price_and_caution(client):
+    from tests.web.test_inks_api import add_ink
+
+    assert "Ink from the shop" not in text(client.get("/estimate"))  # no inks: the page is as it was
+    ink = add_ink(client, name="Black SB", type="solvent_based", density="0.98 g/cm3", price=6.4, price_per="lb")
+    page = text(client.get("/estimate"))
+    stations = page.count('<fieldset class="card station">')
+    assert stations >= 2 and page.count('data-ink-pick="estimate-form"') == stations  # one per station
+    assert 'data-ink-prefix="stations[1]."' in page
+    assert f'<option value="{ink["id"]}" data-density="0.98" data-price="6.4" data-price-per="lb"' in page
+    # Without script: "Fill from this ink" posts the form and the station comes back filled, still editable,
+    # with the ink's caution; the other stations keep what was typed.
+    form = labels_form(**{"stations[1].ink": str(ink["id"]), "stations[0].ink_density": "1.05"}, action="ink-1")
+    body = text(client.post("/estimate", data=form))
+    assert re.search(r'name="stations\[1\]\.ink_density"[^>]*value="0\.98"', body)
+    assert re.search(r'name="stations\[1\]\.price_per_kg"[^>]*value="6\.4"', body)
+    assert re.search(r'name="stations\[0\]\.ink_density"[^>]*value="1\.05"', body)
+    assert re.search(rf'data-ink-caution="{ink["id"]}">', body) and "Flammable liquid" in body
+    # The totals use the ink's values: the same as the API with that station's density and price per lb.
+    picked = copy.deepcopy(API_BODY)
+    picked["stations"][0]["ink_density"] = "1.05 g/cm3"
+    picked["stations"][1]["ink_density"] = "0.98 g/cm3"
+    picked["stations"][1]["price_per_lb"] = 6.4
+    answer = api(client, picked)
+    assert total_mass(body) == f"{format_number(answer['total_ink_mass']['value'])} kg"
+    assert format_money(answer["total_cost"]) in body
+
+
+@pytest.mark.parametrize("ink", ["", "x", "99999999999999999999", "123456789012"])
+def test_filling_from_an_unknown_or_missing_ink_leaves_the_station_as_typed(client, ink):
+    form = labels_form(**{"stations[1].ink": ink, "stations[1].ink_density": "1.07"}, action="ink-1")
+    response = client.post("/estimate", data=form)
+    assert response.status_code == 200
+    assert re.search(r'name="stations\[1\]\.ink_density"[^>]*value="1\.07"', text(response))
+    assert client.post("/estimate", data=labels_form(action="ink-9")).status_code == 200
+    assert client.post("/estimate", data=labels_form(action="ink-x")).status_code == 200

@@ -519,6 +519,7 @@ def station_defaults(index: int, system: str = "metric") -> dict:
         "inked_area_per_label": "",
         "inked_area_unit": "in2" if imperial else "cm2",
         "coverage_kind": "",
+        "ink": "",  # the id of the shop's ink picked for the station, if any (fills density and price)
     }
 
 
@@ -566,6 +567,8 @@ def estimate_form() -> dict:
             source = None
         if source is not None:
             stations.append(source | {"name": f"{source['name'].strip()} copy"[:NAME_MAX]})
+    elif action.startswith("ink-"):
+        _fill_from_ink(stations, action.removeprefix("ink-"))
     elif action.startswith("remove-") and len(stations) > 1:
         try:
             del stations[int(action.removeprefix("remove-"))]
@@ -576,6 +579,25 @@ def estimate_form() -> dict:
     for name, _ in TICKET_FIELDS:
         form[name] = str(form[name])[:TICKET_MAX]
     return form
+
+
+def _fill_from_ink(stations: list[dict], index: str) -> None:
+    """The no-script page's "Fill from this ink": the station's density and price from the shop's ink
+    it picked (the fields stay editable). An unknown station or ink leaves the fields as typed."""
+    from webapp.common.db import get_db
+    from webapp.inks import store as inks
+
+    station = stations[int(index)] if index.isdigit() and int(index) < len(stations) else None
+    ident = station["ink"].strip() if station else ""
+    if not (ident.isdigit() and len(ident) <= 12):
+        return
+    try:
+        ink = inks.get_ink(get_db(), int(ident))
+    except inks.NotFound:
+        return
+    station.update(ink_density=f"{ink['density_g_cm3']:.6g}", ink_density_unit="g/cm3")
+    if ink["price"] is not None:
+        station.update(price_per_kg=f"{ink['price']:.6g}", price_unit=ink["price_per"])
 
 
 def _count(text, field: str, *, required: bool = True):
