@@ -52,6 +52,13 @@ def build_parser() -> argparse.ArgumentParser:
         default=DEFAULT_DATA,
         help=f"folder for inkfilm's data, created if missing (default ./{DEFAULT_DATA}, with --demo ./{DEMO_DATA})",
     )
+    serve.add_argument(
+        "--time-zone",
+        metavar="ZONE",
+        default=os.environ.get("INKFILM_TIME_ZONE", ""),
+        help="the shop's time zone for the times shown, e.g. Europe/Berlin (default the server's own; "
+        "or set INKFILM_TIME_ZONE)",
+    )
     serve.add_argument("--threads", type=int, default=8, help="worker threads (default 8)")
     serve.add_argument(
         "--demo",
@@ -106,7 +113,14 @@ def serve_worker(args) -> int:
     if problem:
         print(f"inkfilm: {problem}; give a --data-dir the server may write to", file=sys.stderr)
         return 2
-    config = {"DATA_DIR": str(data_dir), "DEMO": args.demo}
+    from webapp.common.formatting import shop_zone
+
+    try:
+        shop_zone(args.time_zone)
+    except ValueError as exc:
+        print(f"inkfilm: --time-zone {str(exc).partition(': ')[2]}", file=sys.stderr)
+        return 2
+    config = {"DATA_DIR": str(data_dir), "DEMO": args.demo, "TIME_ZONE": args.time_zone}
     shop = args.shop_passcode or os.environ.get("INKFILM_SHOP_PASSCODE")
     supervisor = args.supervisor_passcode or os.environ.get("INKFILM_SUPERVISOR_PASSCODE")
     front = None
