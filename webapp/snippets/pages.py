@@ -32,6 +32,7 @@ from webapp.auth.gate import form_gate
 from webapp.calculators import BY_KIND, CALCULATIONS, kind_name
 from webapp.common import jsontext
 from webapp.common.db import STORAGE_MESSAGE, get_db, is_storage_failure
+from webapp.common.formatting import shown
 from webapp.common.preference import current_system
 from webapp.snippets import api, exchange, merge, rules, store
 from webapp.snippets.rerun import rerun as work_out_again
@@ -169,7 +170,8 @@ def _default_title(kind: str, inputs) -> str:
     key = spec.main_input if spec else None
     first = inputs.get(key) if key and isinstance(inputs.get(key), str) else None
     label = kind_name(str(kind))
-    return f"{label}: {first}"[: rules.LIMITS["title"]] if first is not None else label
+    # The unit as the app shows it (in², not in2).
+    return f"{label}: {shown(key, first)}"[: rules.LIMITS["title"]] if first is not None else label
 
 
 @bp.post("/snippets/new")
