@@ -55,7 +55,7 @@ def test_the_save_button_under_a_film_result_leads_to_a_save_form_with_the_resul
     # with the other system's figure beside it (webapp.common.formatting.preferred)
     wet = r"Substrate wet</dt>\s*<dd><span class=\"num\">1.55</span> µm <span class=\"also\">\(0.061 mil\)</span></dd>"
     assert re.search(wet, page)
-    assert 'name="title" type="text" value="Film chain: 4.0 BCM/in2"' in page
+    assert 'name="title" type="text" value="Film chain: 4.0 BCM/in²"' in page  # in² as the app shows it
     assert 'name="job_number"' in page and 'name="saved_by"' in page
 
 

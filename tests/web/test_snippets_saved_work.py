@@ -12,7 +12,7 @@ import pytest
 from tests.bodies import FILM
 from tests.conftest import csrf_from
 from webapp import create_app
-from webapp.calculators import BY_KIND
+from webapp.calculators import BY_KIND, CALCULATIONS
 
 SUPERVISOR = "Boss-4242-passcode"
 
@@ -211,3 +211,47 @@ def test_the_header_says_unlocked_for_supervisors_with_a_one_tap_lock(locked):
     locked_now = client.post("/lock", data={"csrf_token": csrf_from(client), "next": "/film?anilox_volume=4"})
     assert locked_now.status_code == 303 and locked_now.headers["Location"] == "/film?anilox_volume=4"
     assert "Unlocked for supervisors" not in text(client.get("/film"))
+
+
+# --- 7 (part): open a snippet in its calculator; the save form's way back ------------------------
+
+
+def test_open_in_the_calculator_fills_its_form_with_the_saved_inputs(client):
+    snippet_id = save(client)
+    page = text(client.get(f"/snippets/{snippet_id}"))
+    link = re.search(r'href="(/film\?[^"]+)">Open in the calculator', page).group(1)
+    calculator = text(client.get(link))
+    inputs = json.loads(re.search(r"name=\"inputs\" value='([^']*)'", calculator).group(1))
+    # The same calculation (4 BCM/in2 comes back as the form writes it, 4.0), ready to change and save as new.
+    assert inputs.keys() == FILM.keys() and CALCULATIONS["film"](inputs) == CALCULATIONS["film"](FILM)
+
+
+def test_the_save_form_leads_back_to_the_result(client):
+    body = '{"quantity": "7 cm3/m2", "coverage": 0.3}'
+    form = text(
+        client.post("/snippets/new", data={"csrf_token": csrf_from(client), "kind": "equivalents", "inputs": body})
+    )
+    link = re.search(r'<a class="back-to-result" href="([^"]+)">Back to the result</a>', form).group(1)
+    assert link.startswith("/?")
+    result = text(client.get(link))
+    assert json.loads(re.search(r"name=\"inputs\" value='([^']*)'", result).group(1)) == {
+        "quantity": "7.0 cm3/m2",
+        "coverage": 0.3,
+    }
+
+
+def test_the_job_page_gathers_every_snippet_of_one_job_station_by_station(client):
+    first = save(client, "White underlay", job_number="24-0117", station="10", press="Press 2")
+    save(client, "Cyan", job_number="24-0117", station="3", press="Press 2")
+    save(client, "Other job", job_number="24-0118", station="1")
+    gone = save(client, "Deleted one", job_number="24-0117", station="1")
+    client.post(f"/snippets/{gone}/delete", data={"csrf_token": csrf_from(client)})
+    page = text(client.get("/jobs/24-0117"))
+    assert "Job 24-0117" in page and "2 saved snippets · Press 2" in page
+    assert page.index("Station 3: Cyan") < page.index("Station 10: White underlay")
+    assert "Other job" not in page and "Deleted one" not in page
+    assert "Substrate wet" in page  # each one's results
+    missing = client.get("/jobs/99-9999")
+    assert missing.status_code == 404 and "Nothing is saved for job 99-9999" in text(missing)
+    one = text(client.get(f"/snippets/{first}"))
+    assert 'href="/jobs/24-0117"' in one

@@ -35,6 +35,7 @@ from webapp.common.db import STORAGE_MESSAGE, get_db, is_storage_failure
 from webapp.common.formatting import shown
 from webapp.common.preference import current_system
 from webapp.snippets import api, exchange, merge, rules, store
+from webapp.snippets.reopen import calculator_link
 from webapp.snippets.rerun import rerun as work_out_again
 
 bp = Blueprint("snippets", __name__)
@@ -137,6 +138,7 @@ def _new_form(kind, inputs, meta, *, errors=None, status=200):
             kind=kind,
             inputs=_displayable(inputs),
             inputs_json=json.dumps(_displayable(inputs), ensure_ascii=False),
+            back_link=_back_link(kind, inputs),
             results=results,
             problem=problem,
             meta=_shown_text(meta),
@@ -146,6 +148,12 @@ def _new_form(kind, inputs, meta, *, errors=None, status=200):
         ),
         status if problem is None else 400,
     )
+
+
+def _back_link(kind, inputs) -> str:
+    """The calculator page with these inputs (or, for one whose form a link cannot fill, its page)."""
+    spec = BY_KIND.get(kind) if isinstance(kind, str) else None
+    return calculator_link(kind, inputs) or (spec.path if spec and spec.path else "/")
 
 
 def _inputs_from_form():
@@ -206,6 +214,22 @@ def create():
     if snippet["saved_by"]:
         response.set_cookie(NAME_COOKIE, snippet["saved_by"], max_age=400 * 24 * 3600, httponly=True, samesite="Strict")
     return response
+
+
+# --- one job ---------------------------------------------------------------------------------------
+
+
+@bp.get("/jobs/<path:job_number>")
+def job(job_number: str):
+    """Every snippet of one job number in one printable page: each station's anilox, film, ink."""
+    snippets = store.by_job(get_db(), job_number)
+    page = render_template(
+        "snippets/job.html",
+        job_number=" ".join(job_number.split())[:100],
+        snippets=[(s, _in_calculator_order(s["kind"], s["inputs"])) for s in snippets],
+        presses=sorted({s["press"] for s in snippets if s["press"]}),
+    )
+    return page, 200 if snippets else 404
 
 
 # --- one snippet ----------------------------------------------------------------------------------
@@ -275,6 +299,7 @@ def _view(snippet, *, rerun=None, status=200, **extra):
             share_url=url_for("snippets.short_link", snippet_id=snippet["id"], _external=True),
             your_name=request.cookies.get(NAME_COOKIE, "")[: rules.LIMITS["saved_by"]],
             system=current_system(),
+            calculator_link=calculator_link(snippet["kind"], snippet["inputs"]),
             **extra,
         ),
         status,

@@ -137,6 +137,23 @@ def search(conn, q: str = "", *, press: str = "", kind: str = "", limit: int = 5
     return rows_to_snippets(conn, rows), total
 
 
+def by_job(conn, job_number: str) -> list[dict]:
+    """Every snippet of one job number not in the bin, station by station (3 before 10, then
+    named ones), then oldest first: the job's record."""
+    job_number = " ".join(str(job_number).split())
+    if not job_number or len(job_number) > 100:
+        return []
+    rows = conn.execute(
+        "SELECT * FROM snippet WHERE deleted_at IS NULL AND job_number = ? ORDER BY created_at, id", (job_number,)
+    ).fetchall()
+
+    def station_order(snippet):
+        station = snippet["station"]
+        return (station == "", not station.isdecimal(), int(station) if station.isdecimal() else 0, station.lower())
+
+    return sorted(rows_to_snippets(conn, rows), key=station_order)
+
+
 def presses(conn) -> list[str]:
     """The presses named on snippets not in the bin, for a filter."""
     rows = conn.execute(
