@@ -138,7 +138,7 @@ def _new_form(kind, inputs, meta, *, errors=None, status=200):
             kind=kind,
             inputs=_displayable(inputs),
             inputs_json=json.dumps(_displayable(inputs), ensure_ascii=False),
-            back_link=_back_link(kind, inputs),
+            back_link=_back_link(kind, _displayable(inputs)),
             results=results,
             problem=problem,
             meta=_shown_text(meta),

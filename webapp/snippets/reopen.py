@@ -13,12 +13,13 @@ from urllib.parse import urlencode
 from calc.display import format_percent
 from webapp.calculators import BY_KIND, cell, convert, film, fit
 
-# kind → (the form's fields and defaults, API input name → form field where they differ).
+# kind → (the form's fields and defaults, API input name → form field where they differ,
+# a quantity's form field → its unit menu where that is not "<field>_unit").
 FORMS = {
-    "equivalents": (convert.DEFAULTS, {"quantity": "value"}),
-    "film": (film.DEFAULTS, {}),
-    "cell": (cell.DEFAULTS, {}),
-    "fit": (fit.DEFAULTS, {}),
+    "equivalents": (convert.DEFAULTS, {"quantity": "value"}, convert.UNIT_MENUS),
+    "film": (film.DEFAULTS, {}, {"anilox_volume": "anilox_unit"}),
+    "cell": (cell.DEFAULTS, {}, {}),
+    "fit": (fit.DEFAULTS, {}, {}),
 }
 MAX_VALUE = 100
 
@@ -27,14 +28,14 @@ def form_values(kind: str, inputs) -> dict | None:
     """The calculator form's field values for a snippet's ``inputs`` (``None`` if it has no such form).
 
     >>> form_values("film", {"anilox_volume": "4.5 BCM/in2", "anilox_to_plate": 0.5, "plate_to_substrate": 0.25})
-    {'anilox_volume': '4.5 BCM/in2', 'anilox_to_plate': '50', 'plate_to_substrate': '25'}
+    {'anilox_volume': '4.5', 'anilox_unit': 'BCM/in2', 'anilox_to_plate': '50', 'plate_to_substrate': '25'}
     >>> form_values("cell", {"screen": "800 lpi", "angle": 60, "volume": "4 BCM/in2"})["screen_unit"]
     'lpi'
     """
     spec = BY_KIND.get(kind)
     if kind not in FORMS or spec is None or not spec.path or not isinstance(inputs, dict):
         return None
-    defaults, renames = FORMS[kind]
+    defaults, renames, unit_menus = FORMS[kind]
     values: dict[str, str] = {}
     for name, value in inputs.items():
         field = renames.get(name, name)
@@ -48,8 +49,9 @@ def form_values(kind: str, inputs) -> dict | None:
             values[field] = repr(value)
         elif isinstance(value, str):
             amount, _, unit = value.strip().rpartition(" ")
-            if amount and f"{field}_unit" in defaults:
-                values[field], values[f"{field}_unit"] = amount, unit
+            menu = unit_menus.get(field, f"{field}_unit")
+            if amount and menu in defaults:
+                values[field], values[menu] = amount, unit
             else:
                 values[field] = value
     if kind == "cell":
@@ -62,4 +64,7 @@ def calculator_link(kind: str, inputs) -> str | None:
     values = form_values(kind, inputs)
     if values is None:
         return None
-    return f"{BY_KIND[kind].path}?{urlencode(values)}"
+    try:
+        return f"{BY_KIND[kind].path}?{urlencode(values)}"
+    except UnicodeEncodeError:  # a lone surrogate, as no saved snippet holds: no link
+        return None
