@@ -266,7 +266,7 @@ def update(
     """
     version = _check_version(version)
     meta = check_meta(changes, partial=True)
-    by = _check_by(by)
+    by = check_by(by)
     stamp = now_text(now)
     with transaction(conn):
         current = get(conn, snippet_id)
@@ -298,7 +298,7 @@ def update(
 def delete(conn, snippet_id: int, version=None, *, by: str = "", now: datetime | None = None) -> dict:
     """Move the snippet to the bin (refused as a ``Conflict`` if ``version`` is given and stale);
     ``by`` is who deleted it (the bin says so)."""
-    by = _check_by(by)
+    by = check_by(by)
     stamp = now_text(now)
     with transaction(conn):
         current = get(conn, snippet_id)
@@ -315,7 +315,7 @@ def delete(conn, snippet_id: int, version=None, *, by: str = "", now: datetime |
 
 def restore(conn, snippet_id: int, *, by: str = "", now: datetime | None = None) -> dict:
     """Take the snippet back out of the bin."""
-    by = _check_by(by)
+    by = check_by(by)
     stamp = now_text(now)
     with transaction(conn):
         current = get(conn, snippet_id, deleted=True)
@@ -352,7 +352,7 @@ EVENTS = {
 }
 
 
-def _check_by(by) -> str:
+def check_by(by) -> str:
     """Who made a change: a name as the "saved by" field takes it (may be empty)."""
     if by in (None, ""):
         return ""
@@ -441,7 +441,7 @@ def restore_version(conn, snippet_id: int, old_version, version, *, by: str = ""
     """Bring back the fields, inputs and results of ``old_version`` as a new version,
     made against ``version`` (``Conflict`` if that is stale); the version it replaces is kept."""
     version = _check_version(version)
-    by = _check_by(by)
+    by = check_by(by)
     stamp = now_text(now)
     with transaction(conn):
         current = get(conn, snippet_id)
