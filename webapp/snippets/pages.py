@@ -12,12 +12,14 @@ from __future__ import annotations
 import io
 import json
 import sqlite3
+from datetime import UTC, datetime, timedelta
 
 import segno
 from flask import (
     Blueprint,
     Response,
     abort,
+    current_app,
     flash,
     make_response,
     redirect,
@@ -32,7 +34,7 @@ from webapp.auth.gate import form_gate
 from webapp.calculators import BY_KIND, CALCULATIONS, kind_name
 from webapp.common import jsontext
 from webapp.common.db import STORAGE_MESSAGE, get_db, is_storage_failure
-from webapp.common.formatting import shown
+from webapp.common.formatting import is_number, is_quantity, shown
 from webapp.common.preference import current_system
 from webapp.snippets import api, exchange, merge, rules, store
 from webapp.snippets.reopen import calculator_link
@@ -98,19 +100,93 @@ def _remember_name(response, name: str):
 # --- list and search --------------------------------------------------------------------------
 
 
+PAGE_SIZE = 100
+# The figure the Saved list shows for each kind (else the first quantity of the results).
+HEADLINE = {
+    "convert": "result",
+    "film": "substrate_wet",
+    "estimate": "total_ink_mass",
+    "cell": "volume",
+    "density_volume_for": "anilox_volume",
+    "density_from": "density",
+    "density_fit": "d_inf",
+}
+SORTS = {"newest": "Newest change", "oldest": "Oldest change", "title": "Title", "job": "Job number"}
+
+
+def headline(snippet: dict):
+    """``(name, value)`` of the result a snippet is saved for, or ``None`` (nothing to show)."""
+    results = snippet.get("results")
+    if not isinstance(results, dict):
+        return None
+    key = HEADLINE.get(snippet.get("kind"))
+    if key in results and (is_quantity(results[key]) or is_number(results[key])):
+        return key, results[key]
+    for name, value in results.items():
+        if is_quantity(value):
+            return name, value
+    return None
+
+
+def _day_bound(name: str, *, next_day: bool = False) -> tuple[str, str, str | None]:
+    """A ``YYYY-MM-DD`` filter (a day in the shop's zone) as the text kept, the UTC stamp
+    of that day's start (or the next day's), and a message when it is no date."""
+    text = request.args.get(name, "").strip()[:10]
+    if not text:
+        return "", "", None
+    try:
+        day_start = datetime.strptime(text, "%Y-%m-%d")
+    except ValueError:
+        return text, "", "must be a date (YYYY-MM-DD)"
+    if next_day:
+        day_start += timedelta(days=1)
+    zone = current_app.extensions.get("inkfilm_zone")
+    local = day_start.replace(tzinfo=zone) if zone is not None else day_start.astimezone()
+    return text, store.now_text(local.astimezone(UTC)), None
+
+
 @bp.get("/snippets")
 def index():
     q = request.args.get("q", "").strip()[:200]
     press = request.args.get("press", "").strip()[:100]
     kind = request.args.get("kind", "").strip()[:40]
-    snippets, total = store.search(get_db(), q, press=press, kind=kind, limit=100)
+    station = request.args.get("station", "").strip()[:40]
+    sort = request.args.get("sort", "newest")
+    sort = sort if sort in SORTS else "newest"
+    since, since_stamp, since_error = _day_bound("from")
+    until, until_stamp, until_error = _day_bound("to", next_day=True)
+    raw_page = request.args.get("page", "1")
+    page = int(raw_page) if raw_page.isascii() and raw_page.isdecimal() and 0 < len(raw_page) < 7 else 1
+    page = max(page, 1)
+    filters = dict(press=press, kind=kind, station=station, changed_from=since_stamp, changed_before=until_stamp)
+    snippets, total = store.search(get_db(), q, **filters, order=sort, limit=PAGE_SIZE, offset=(page - 1) * PAGE_SIZE)
+    pages = max(1, -(-total // PAGE_SIZE))
+    if page > pages:  # past the end (the list got shorter): the last page
+        page = pages
+        snippets, _ = store.search(get_db(), q, **filters, order=sort, limit=PAGE_SIZE, offset=(page - 1) * PAGE_SIZE)
+    asked = {"q": q, "press": press, "kind": kind, "station": station, "from": since, "to": until, "sort": sort}
     context = {
         "snippets": snippets,
         "total": total,
         "q": q,
         "press": press,
         "kind": kind,
+        "station": station,
+        "since": since,
+        "until": until,
+        "sort": sort,
+        "sorts": SORTS,
+        "errors": {k: v for k, v in (("from", since_error), ("to", until_error)) if v},
+        "filtered": bool(q or press or kind or station or since or until),
+        "page": page,
+        "pages": pages,
+        "first": (page - 1) * PAGE_SIZE + 1,
+        "page_link": lambda number: url_for(
+            "snippets.index", **{k: v for k, v in asked.items() if v and v != "newest"}, page=number
+        ),
+        "headline": headline,
         "presses": store.presses(get_db()),
+        "stations": store.stations(get_db()),
         "kinds": sorted(CALCULATIONS),
     }
     if request.headers.get("HX-Request") and request.headers.get("HX-Target") == "snippet-results":
@@ -124,7 +200,7 @@ def index():
 # --- save -------------------------------------------------------------------------------------
 
 
-def _new_form(kind, inputs, meta, *, errors=None, status=200):
+def _new_form(kind, inputs, meta, *, errors=None, status=200, duplicate=None):
     """The save form for ``inputs``, with today's results (or why there are none)."""
     results, problem = None, None
     try:
@@ -145,6 +221,7 @@ def _new_form(kind, inputs, meta, *, errors=None, status=200):
             errors=errors or {},
             limits=rules.LIMITS,
             presses=store.presses(get_db()),
+            duplicate=duplicate,
         ),
         status if problem is None else 400,
     )
@@ -201,6 +278,10 @@ def create():
     message, status = form_gate("write")
     if message:
         return _new_form(kind, inputs, meta, errors={"passcode": message}, status=status)
+    if request.form.get("duplicate_ok") != "1":
+        same = store.same_as(get_db(), kind, inputs, meta)
+        if same is not None:
+            return _new_form(kind, inputs, meta, duplicate=same, status=409)
     try:
         snippet = store.create(get_db(), kind, inputs, meta, CALCULATIONS)
     except InputError as exc:

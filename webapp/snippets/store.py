@@ -108,8 +108,31 @@ def _like(word: str) -> str:
     return "%" + word.replace("\\", "\\\\").replace("%", "\\%").replace("_", "\\_") + "%"
 
 
-def search(conn, q: str = "", *, press: str = "", kind: str = "", limit: int = 50, offset: int = 0):
-    """Snippets (newest change first) whose title, job number, notes or tags hold every word of ``q``.
+# The orders the Saved list offers; the SQL comes from here, never from the request.
+ORDERS = {
+    "newest": "s.updated_at DESC, s.id DESC",
+    "oldest": "s.updated_at, s.id",
+    "title": "s.title COLLATE NOCASE, s.id",
+    "job": "s.job_number = '', s.job_number COLLATE NOCASE, s.station, s.id",
+}
+
+
+def search(
+    conn,
+    q: str = "",
+    *,
+    press: str = "",
+    kind: str = "",
+    station: str = "",
+    changed_from: str = "",
+    changed_before: str = "",
+    order: str = "newest",
+    limit: int = 50,
+    offset: int = 0,
+):
+    """Snippets (newest change first, or another of ``ORDERS``) whose title, job number, notes or
+    tags hold every word of ``q``; ``changed_from`` / ``changed_before`` are UTC stamps
+    (``now_text``) bounding the last change.
 
     Returns ``(snippets, total)``: one page and the number of all matches.
     """
@@ -128,13 +151,47 @@ def search(conn, q: str = "", *, press: str = "", kind: str = "", limit: int = 5
     if kind:
         where.append("s.kind = ?")
         params.append(kind)
+    if station:
+        where.append("s.station = ?")
+        params.append(station)
+    if changed_from:
+        where.append("s.updated_at >= ?")
+        params.append(changed_from)
+    if changed_before:
+        where.append("s.updated_at < ?")
+        params.append(changed_before)
     condition = " AND ".join(where)
     total = conn.execute(f"SELECT count(*) FROM snippet s WHERE {condition}", params).fetchone()[0]
     rows = conn.execute(
-        f"SELECT s.* FROM snippet s WHERE {condition} ORDER BY s.updated_at DESC, s.id DESC LIMIT ? OFFSET ?",
+        f"SELECT s.* FROM snippet s WHERE {condition} ORDER BY {ORDERS.get(order, ORDERS['newest'])} LIMIT ? OFFSET ?",
         [*params, limit, offset],
     ).fetchall()
     return rows_to_snippets(conn, rows), total
+
+
+def same_as(conn, kind: str, inputs, meta: dict) -> dict | None:
+    """A snippet not in the bin that saving ``kind``/``inputs`` with ``meta`` would repeat
+    exactly (same kind, inputs, title, job number, press and station), or ``None``."""
+    try:
+        meta = check_meta(meta)
+    except InputError:
+        return None  # saving it is refused anyway, naming the field
+    row = conn.execute(
+        "SELECT * FROM snippet WHERE deleted_at IS NULL AND kind = ? AND inputs = ? AND title = ?"
+        " AND job_number = ? AND press = ? AND station = ? ORDER BY id LIMIT 1",
+        (
+            kind,
+            json.dumps(inputs, ensure_ascii=False),
+            *(str(meta.get(name) or "") for name in ("title", "job_number", "press", "station")),
+        ),
+    ).fetchone()
+    return rows_to_snippets(conn, [row])[0] if row else None
+
+
+def stations(conn) -> list[str]:
+    """The station names in use, for the list's filter."""
+    rows = conn.execute("SELECT DISTINCT station FROM snippet WHERE deleted_at IS NULL AND station != ''").fetchall()
+    return sorted((r[0] for r in rows), key=lambda v: (not v.isdecimal(), int(v) if v.isdecimal() else 0, v.lower()))
 
 
 def by_job(conn, job_number: str) -> list[dict]:
