@@ -165,3 +165,53 @@ def test_the_header_of_a_device_unlocked_for_supervisors(open_context, tmp_path,
         lock.click()
         expect(page.locator(".unlocked-bar")).to_have_count(0)
         assert page.url.endswith("/film")
+
+
+def test_axe_finds_no_serious_problems_on_the_saved_work_pages(open_context, check_axe, screenshots):
+    # The CSP forbids inline scripts, axe's included: this context bypasses it.
+    page = open_context(PHONE, bypass_csp=True).new_page()
+    job = f"24-{random.randint(1000, 9999)}"
+    snippet_id = new_snippet(page, job)
+    changed = page.request.patch(
+        f"/api/v1/snippets/{snippet_id}", data={"version": 1, "notes": "Blade changed.", "changed_by": "Bea"}
+    )
+    assert changed.ok, changed.text()
+    doomed = new_snippet(page, f"{job}-bin")
+    assert page.request.delete(f"/api/v1/snippets/{doomed}?by=Sue").ok
+    pages = {
+        "saved-list": "/snippets?sort=job",
+        "saved-history": f"/snippets/{snippet_id}/history",
+        "saved-version": f"/snippets/{snippet_id}/versions/1",
+        "saved-job": f"/jobs/{job}",
+        "saved-bin": "/snippets/bin",
+        "saved-deleted-link": f"/s/{doomed}",
+    }
+    for name, path in pages.items():
+        page.goto(path)
+        no_sideways_scroll(page)
+        page.screenshot(path=str(screenshots / f"{name}-axe-phone.png"), full_page=True)
+        check_axe(page, path)
+
+    # The merge page: an edit made against version 1 meets version 2's notes.
+    page.goto(f"/snippets/{snippet_id}/edit")
+    page.evaluate("document.querySelector('input[name=version]').value = '1'")
+    page.get_by_label("Notes").fill("Kept for spring.")
+    page.get_by_role("button", name="Save changes").click()
+    expect(page.locator(".merge-field.merge-conflict")).to_be_visible()
+    no_sideways_scroll(page)
+    page.screenshot(path=str(screenshots / "saved-conflict-axe-phone.png"), full_page=True)
+    check_axe(page, "the merge page")
+
+    # The save form's duplicate warning.
+    page.goto("/film?anilox_volume=4.5&anilox_unit=BCM/in2")
+    for _ in range(2):
+        page.get_by_role("button", name="Save this…").click()
+        page.get_by_role("button", name="Save", exact=True).click()
+        if page.get_by_text("Exactly this is saved already").count():
+            break
+        page.goto("/film?anilox_volume=4.5&anilox_unit=BCM/in2")
+    expect(page.get_by_text("Exactly this is saved already")).to_be_visible()
+    expect(page.get_by_role("button", name="Save a second copy")).to_be_visible()
+    no_sideways_scroll(page)
+    page.screenshot(path=str(screenshots / "saved-duplicate-axe-phone.png"), full_page=True)
+    check_axe(page, "the duplicate warning")

@@ -111,7 +111,7 @@ HEADLINE = {
     "density_from": "density",
     "density_fit": "d_inf",
 }
-SORTS = {"newest": "Newest change", "oldest": "Oldest change", "title": "Title", "job": "Job number"}
+SORTS = {"newest": "Newest change", "oldest": "Oldest change", "title": "Title", "job": "Job"}
 
 
 def headline(snippet: dict):
