@@ -10,7 +10,9 @@ import json
 import re
 from datetime import UTC, datetime, timedelta
 
-from tests.bodies import CONVERT, FILM
+import pytest
+
+from tests.bodies import CONVERT, ESTIMATE, ESTIMATE_BY_IMPRESSIONS, ESTIMATE_UNPRICED, FILM
 from tests.conftest import csrf_from
 from webapp.calculators import CALCULATIONS
 from webapp.common import db
@@ -24,6 +26,15 @@ def text(response) -> str:
 def save(client, title, kind="film", inputs=FILM, **fields):
     form = {"csrf_token": csrf_from(client), "kind": kind, "inputs": json.dumps(inputs), "title": title, **fields}
     return client.post("/snippets", data=form)
+
+
+def rounded(data):
+    """Floats to 12 significant digits (a form writes 1.0 where the body said 1), all else as it is."""
+    if isinstance(data, dict):
+        return {k: rounded(v) for k, v in data.items()}
+    if isinstance(data, list):
+        return [rounded(v) for v in data]
+    return float(f"{data:.12g}") if isinstance(data, float) else data
 
 
 def titles(page: str) -> list[str]:
@@ -137,3 +148,27 @@ def test_saving_an_exact_duplicate_warns_first_and_saves_a_copy_only_when_asked(
     assert save(client, "Film A", job_number="24-0118").status_code == 303
     assert save(client, "Film A", job_number="24-0117", duplicate_ok="1").status_code == 303
     assert "3 saved" in text(client.get("/snippets"))
+
+
+@pytest.mark.parametrize(
+    "body", [ESTIMATE, ESTIMATE_BY_IMPRESSIONS, ESTIMATE_UNPRICED], ids=["run", "impressions", "unpriced"]
+)
+def test_an_estimate_opens_in_its_calculator_with_every_station(client, body):
+    saved = save(client, "Job ink", kind="estimate", inputs=body)
+    assert saved.status_code == 303, saved.get_data(as_text=True)
+    page = client.get(saved.headers["Location"]).get_data(as_text=True)
+    link = re.search(r'href="(/estimate\?[^"]+)">Open in the calculator', page).group(1)
+    calculator = text(client.get(html.unescape(link)))
+    inputs = json.loads(re.search(r"name=\"inputs\" value='([^']*)'", calculator).group(1))
+    # The same job, station by station, worked out the same, ready to change and save as new.
+    assert len(inputs["stations"]) == len(body["stations"])
+    assert rounded(CALCULATIONS["estimate"](inputs)) == rounded(CALCULATIONS["estimate"](body))
+
+
+def test_an_estimate_with_an_input_the_form_has_no_field_for_opens_no_calculator():
+    from webapp.snippets.reopen import calculator_link
+
+    by_label = {**ESTIMATE, "stations": [{**ESTIMATE["stations"][0], "inked_area_per_label": "10 cm2"}]}
+    assert calculator_link("estimate", by_label) is None
+    assert calculator_link("estimate", {**ESTIMATE, "stations": []}) is None
+    assert calculator_link("estimate", ESTIMATE).startswith("/estimate?")

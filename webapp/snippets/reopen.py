@@ -3,7 +3,8 @@
 ``calculator_link(kind, inputs)`` gives the calculator page's address with the form's
 fields as GET values (``webapp.common.forms.form_values`` reads them like typed ones),
 so a person can change them and save the result as a new snippet. A calculator whose
-inputs are lists (stations, readings) has no such link yet: ``None``.
+inputs are lists of readings (the density kinds) has no such link yet: ``None``; an
+estimate's stations go as ``stations[i].<field>`` values.
 """
 
 from __future__ import annotations
@@ -11,7 +12,7 @@ from __future__ import annotations
 from urllib.parse import urlencode
 
 from calc.display import format_percent
-from webapp.calculators import BY_KIND, cell, convert, film, fit
+from webapp.calculators import BY_KIND, cell, convert, estimate, film, fit
 
 # kind → (the form's fields and defaults, API input name → form field where they differ,
 # a quantity's form field → its unit menu where that is not "<field>_unit").
@@ -59,9 +60,85 @@ def form_values(kind: str, inputs) -> dict | None:
     return {name: text for name, text in values.items() if len(text) <= MAX_VALUE}
 
 
+# An estimate station's API input → (form field, its unit menu or None).
+STATION_FIELDS = {
+    "name": ("name", None),
+    "anilox_volume": ("anilox_volume", "anilox_unit"),
+    "coverage": ("coverage", None),
+    "transfer": ("transfer", None),
+    "ink_density": ("ink_density", "ink_density_unit"),
+    "fill": ("fill", "fill_unit"),
+    "on_hand": ("on_hand", "on_hand_unit"),
+}
+ESTIMATE_FIELDS = {
+    "web_width": "web_width_unit",
+    "run_length": "run_length_unit",
+    "repeat": "repeat_unit",
+    "makeready": "makeready_unit",
+    "impressions": None,
+    "labels": None,
+    "across": None,
+    "around": None,
+    "waste": None,
+}
+
+
+def _put(values: dict, field: str, menu: str | None, value, *, share: bool = False) -> bool:
+    """One input as form text (a quantity split into number and unit menu); False if it cannot be."""
+    if isinstance(value, bool):
+        return False
+    if isinstance(value, int | float):
+        values[field] = format_percent(value) if share else repr(value)
+        return True
+    if not isinstance(value, str):
+        return False
+    amount, _, unit = value.strip().rpartition(" ")
+    if menu is not None and amount:
+        values[field], values[menu] = amount, unit
+    else:
+        values[field] = value
+    return True
+
+
+def estimate_values(inputs) -> dict | None:
+    """The estimate form's field values for saved inputs, stations included; ``None`` when an
+    input has no field on the form (the page would work out something else)."""
+    if not isinstance(inputs, dict) or not isinstance(inputs.get("stations"), list):
+        return None
+    stations = inputs["stations"]
+    if not 1 <= len(stations) <= estimate.MAX_STATIONS:
+        return None
+    values = {"station_count": str(len(stations))}
+    values["run_basis"] = next((b for b in ("impressions", "labels") if b in inputs), "length")
+    for name, value in inputs.items():
+        if name == "stations":
+            continue
+        if name not in ESTIMATE_FIELDS or not _put(values, name, ESTIMATE_FIELDS[name], value, share=name == "waste"):
+            return None
+    for index, station in enumerate(stations):
+        if not isinstance(station, dict):
+            return None
+        for name, value in station.items():
+            where = f"stations[{index}]."
+            if name in ("price_per_kg", "price_per_lb"):
+                if not _put(values, where + "price_per_kg", None, value):
+                    return None
+                values[where + "price_unit"] = name.removeprefix("price_per_")
+                continue
+            if name not in STATION_FIELDS:
+                return None
+            field, menu = STATION_FIELDS[name]
+            share = name in ("coverage", "transfer")
+            if not _put(values, where + field, menu and where + menu, value, share=share):
+                return None
+    if any(len(text) > MAX_VALUE for text in values.values()):
+        return None
+    return values
+
+
 def calculator_link(kind: str, inputs) -> str | None:
     """The calculator page filled with ``inputs``, or ``None``."""
-    values = form_values(kind, inputs)
+    values = estimate_values(inputs) if kind == "estimate" else form_values(kind, inputs)
     if values is None:
         return None
     try:
