@@ -73,7 +73,7 @@ def test_save_find_share_and_edit_on_two_phones(open_context, screenshots):
     supervisor.get_by_role("link", name="Edit").click()
     operator.get_by_label("Notes").fill("Blade changed at 14:00.")
     operator.get_by_role("button", name="Save changes").click()
-    expect(operator.get_by_text("Changes saved.")).to_be_visible()
+    expect(operator.get_by_text("Changes saved (version 2).")).to_be_visible()
 
     supervisor.get_by_label("Notes").fill("Keep for the reorder in spring.")
     supervisor.get_by_role("button", name="Save changes").click()

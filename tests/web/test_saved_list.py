@@ -5,7 +5,9 @@ a warning before saving an exact duplicate."""
 from __future__ import annotations
 
 import contextlib
+import csv
 import html
+import io
 import json
 import re
 from datetime import UTC, datetime, timedelta
@@ -172,3 +174,33 @@ def test_an_estimate_with_an_input_the_form_has_no_field_for_opens_no_calculator
     assert calculator_link("estimate", by_label) is None
     assert calculator_link("estimate", {**ESTIMATE, "stations": []}) is None
     assert calculator_link("estimate", ESTIMATE).startswith("/estimate?")
+
+
+def test_csv_for_spreadsheets_has_a_bom_plain_numbers_and_local_times(tmp_path):
+    from webapp import create_app
+
+    app = create_app({"TESTING": True, "DATA_DIR": str(tmp_path), "TIME_ZONE": "Europe/Berlin"})
+    with contextlib.closing(db.connect(db.database_path(app))) as conn:
+        store.create(
+            conn, "film", FILM, {"title": "Film A"}, CALCULATIONS, now=datetime(2026, 5, 1, 13, 45, tzinfo=UTC)
+        )
+        store.create(conn, "convert", CONVERT, {"title": "Convert A"}, CALCULATIONS)
+    client = app.test_client()
+    for url in ("/snippets/export.csv", "/api/v1/snippets/export.csv"):
+        response = client.get(url)
+        raw = response.get_data()
+        assert raw.startswith(b"\xef\xbb\xbf") and response.mimetype == "text/csv"
+        assert "charset=utf-8" in response.headers["Content-Type"]
+        rows = list(csv.reader(io.StringIO(raw.decode("utf-8-sig"))))
+        header = rows[0]
+        assert header[:4] == ["id", "uid", "kind", "title"]
+        film = dict(zip(header, rows[1], strict=True))
+        # FILM's substrate film: 1.55 µm (the film calculator's headline), a bare number in µm.
+        assert (film["result"], film["result_unit"]) == ("substrate_wet", "um")
+        assert float(film["result_value"]) == pytest.approx(1.5500031, rel=1e-6)
+        assert film["created_local"] == "2026-05-01 15:45 CEST"
+        convert = dict(zip(header, rows[2], strict=True))
+        assert convert["result"] == "result" and convert["result_unit"] == "cm3/m2"
+    # Numbers are bare in the file (a spreadsheet reads them as numbers), text is quoted.
+    line = client.get("/snippets/export.csv").get_data(as_text=True).splitlines()[1]
+    assert re.search(r',1\.55000\d*,"um",', line)

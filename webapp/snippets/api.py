@@ -11,7 +11,7 @@ from __future__ import annotations
 
 import re
 
-from flask import Blueprint, Response, jsonify, request, url_for
+from flask import Blueprint, Response, current_app, jsonify, request, url_for
 
 from calc import InputError
 from webapp.auth.gate import api_gate as require
@@ -171,7 +171,7 @@ def export_json():
 @bp.get("/export.csv")
 def export_csv():
     return Response(
-        exchange.export_csv(get_db()),
+        exchange.CSV_BOM + exchange.export_csv(get_db(), current_app.extensions.get("inkfilm_zone")),
         mimetype="text/csv",
         headers={"Content-Disposition": 'attachment; filename="inkfilm-snippets.csv"'},
     )

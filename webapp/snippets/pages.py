@@ -34,9 +34,10 @@ from webapp.auth.gate import form_gate
 from webapp.calculators import BY_KIND, CALCULATIONS, kind_name
 from webapp.common import jsontext
 from webapp.common.db import STORAGE_MESSAGE, get_db, is_storage_failure
-from webapp.common.formatting import is_number, is_quantity, shown
+from webapp.common.formatting import shown
 from webapp.common.preference import current_system
 from webapp.snippets import api, exchange, merge, rules, store
+from webapp.snippets.exchange import headline
 from webapp.snippets.reopen import calculator_link
 from webapp.snippets.rerun import rerun as work_out_again
 
@@ -101,31 +102,7 @@ def _remember_name(response, name: str):
 
 
 PAGE_SIZE = 100
-# The figure the Saved list shows for each kind (else the first quantity of the results).
-HEADLINE = {
-    "convert": "result",
-    "film": "substrate_wet",
-    "estimate": "total_ink_mass",
-    "cell": "volume",
-    "density_volume_for": "anilox_volume",
-    "density_from": "density",
-    "density_fit": "d_inf",
-}
 SORTS = {"newest": "Newest change", "oldest": "Oldest change", "title": "Title", "job": "Job"}
-
-
-def headline(snippet: dict):
-    """``(name, value)`` of the result a snippet is saved for, or ``None`` (nothing to show)."""
-    results = snippet.get("results")
-    if not isinstance(results, dict):
-        return None
-    key = HEADLINE.get(snippet.get("kind"))
-    if key in results and (is_quantity(results[key]) or is_number(results[key])):
-        return key, results[key]
-    for name, value in results.items():
-        if is_quantity(value):
-            return name, value
-    return None
 
 
 def _day_bound(name: str, *, next_day: bool = False) -> tuple[str, str, str | None]:
