@@ -52,6 +52,13 @@ def build_parser() -> argparse.ArgumentParser:
         default=DEFAULT_DATA,
         help=f"folder for inkfilm's data, created if missing (default ./{DEFAULT_DATA}, with --demo ./{DEMO_DATA})",
     )
+    serve.add_argument(
+        "--time-zone",
+        metavar="ZONE",
+        default=os.environ.get("INKFILM_TIME_ZONE", ""),
+        help="the shop's time zone for the times shown, e.g. Europe/Berlin (default the server's own; "
+        "or set INKFILM_TIME_ZONE)",
+    )
     serve.add_argument("--threads", type=int, default=8, help="worker threads (default 8)")
     serve.add_argument(
         "--demo",
@@ -112,8 +119,8 @@ def serve_worker(args) -> int:
     if problem:
         print(f"inkfilm: {problem}; give a --data-dir the server may write to", file=sys.stderr)
         return 2
-    config = {"DATA_DIR": str(data_dir), "DEMO": args.demo}
-    from webapp.common.formatting import check_currency
+    config = {"DATA_DIR": str(data_dir), "DEMO": args.demo, "TIME_ZONE": args.time_zone}
+    from webapp.common.formatting import check_currency, shop_zone
 
     try:
         config["CURRENCY"] = check_currency(
@@ -121,6 +128,11 @@ def serve_worker(args) -> int:
         )
     except ValueError as exc:
         print(f"inkfilm: --currency: {exc}", file=sys.stderr)
+        return 2
+    try:
+        shop_zone(args.time_zone)
+    except ValueError as exc:
+        print(f"inkfilm: --time-zone {str(exc).partition(': ')[2]}", file=sys.stderr)
         return 2
     shop = args.shop_passcode or os.environ.get("INKFILM_SHOP_PASSCODE")
     supervisor = args.supervisor_passcode or os.environ.get("INKFILM_SUPERVISOR_PASSCODE")

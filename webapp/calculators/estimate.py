@@ -533,16 +533,18 @@ def estimate_form() -> dict:
         count = len(DEMO_STATIONS)
     posted = request.method == "POST"
     action = request.form.get("action", "") if posted else ""
+    # A link may fill the stations too (a saved estimate's "Open in the calculator").
+    given = request.form if posted else request.args
     stations = []
     for index in range(max(1, min(count, MAX_STATIONS))):
         station = station_defaults(index, system)
-        if posted and f"stations[{index}].name" in request.form:
+        if f"stations[{index}].name" in given:
             # a field the form did not post (an older page) keeps its default
             station.update(
                 {
-                    key: request.form[f"stations[{index}].{key}"]
+                    key: given[f"stations[{index}].{key}"][: None if posted else 100]
                     for key in station
-                    if f"stations[{index}].{key}" in request.form
+                    if f"stations[{index}].{key}" in given
                 }
             )
         if (
