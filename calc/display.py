@@ -46,6 +46,8 @@ UNIT_LABELS = {
     "ft2": "ft²",
     "MSI": "MSI",
     "in2": "in²",
+    "cm2": "cm²",
+    "mm2": "mm²",
     "l": "l",
     "ml": "ml",
     "gal": "US gal",

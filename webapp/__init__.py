@@ -36,6 +36,10 @@ def create_app(test_config: dict | None = None) -> Flask:
         # The JSON API takes bodies up to 64 KB (webapp.common.jsonapi); this is the
         # app-wide ceiling, for uploads such as an import file.
         MAX_CONTENT_LENGTH=8 * 1024 * 1024,
+        # The shop's currency symbol beside every cost (``inkfilm serve --currency``); none by default.
+        CURRENCY="",
+        # The shop's time zone for every time shown (``Europe/Berlin``); empty: the server's own.
+        TIME_ZONE=os.environ.get("INKFILM_TIME_ZONE", ""),
     )
     if test_config:
         app.config.update(test_config)
