@@ -4,6 +4,7 @@ styled page."""
 
 from __future__ import annotations
 
+import os
 import re
 import shutil
 import subprocess
@@ -63,6 +64,12 @@ def test_an_installed_wheel_serves_a_styled_page(tmp_path):
         assert "self.inkfilmOfflineData=" in client.get(offline).get_data(as_text=True)
         for url in re.search(r'data-scripts="([^"]+)"', page).group(1).split(" "):
             assert client.get(url).status_code == 200, url
+        # Compressed once into a fresh cache folder, from the installed package's files.
+        squeezed = client.get(sheet, headers={"Accept-Encoding": "br"})
+        assert squeezed.headers["Content-Encoding"] == "br", squeezed.headers
+        assert "immutable" in squeezed.headers["Cache-Control"]
+        import os, pathlib
+        assert any((pathlib.Path(os.environ["INKFILM_CACHE_DIR"]) / "static").glob("*/css/inkfilm.css.br"))
         from webapp.common import db
         assert db.SCHEMA_VERSION == int(sys.argv[1]), db.SCHEMA_VERSION
         print("ok", len(page), len(css))
@@ -74,6 +81,7 @@ def test_an_installed_wheel_serves_a_styled_page(tmp_path):
     metadata = zipfile.ZipFile(wheel).read(next(n for n in zipfile.ZipFile(wheel).namelist() if n.endswith("METADATA")))
     assert re.search(rb"^Requires-Dist: rjsmin", metadata, re.M)
     command = [python, "-c", script, str(db.SCHEMA_VERSION)]
-    result = subprocess.run(command, cwd=tmp_path, capture_output=True, text=True, timeout=120)
+    env = {**os.environ, "INKFILM_CACHE_DIR": str(tmp_path / "cache")}
+    result = subprocess.run(command, cwd=tmp_path, env=env, capture_output=True, text=True, timeout=120)
     assert result.returncode == 0, result.stderr
     assert result.stdout.startswith("ok ")

@@ -22,27 +22,17 @@ def test_shipped_migrations_are_unchanged():
 
 
 def test_migrations_are_numbered_from_one_without_gaps():
-    # Gaps only where a number is held for a migration still to come (db.RESERVED).
     names = sorted(path.name for path in db.MIGRATIONS_DIR.glob("*.sql"))
-    numbers = [int(name[:4]) for name in names]
-    expected = [n for n in range(1, len(names) + len(db.RESERVED) + 1) if n not in db.RESERVED][: len(names)]
-    assert numbers == expected
-    assert not db.RESERVED & set(numbers)
+    assert [int(name[:4]) for name in names] == list(range(1, len(names) + 1))
     assert len(db.MIGRATIONS) == db.SCHEMA_VERSION == len(names)
 
 
-def test_a_file_with_a_reserved_number_or_out_of_sequence_is_refused(tmp_path, monkeypatch):
+def test_a_file_out_of_sequence_is_refused(tmp_path, monkeypatch):
     for name in db.MIGRATIONS_DIR.glob("*.sql"):
         (tmp_path / name.name).write_bytes(name.read_bytes())
     monkeypatch.setattr(db, "MIGRATIONS_DIR", tmp_path)
     assert len(db._load_migrations()) == db.SCHEMA_VERSION
-    for number in db.RESERVED:
-        held = tmp_path / f"{number:04d}_held.sql"
-        held.write_text("SELECT 1;", encoding="utf-8")
-        with pytest.raises(RuntimeError, match="reserved"):
-            db._load_migrations()
-        held.unlink()
-    stray = tmp_path / f"{db.SCHEMA_VERSION + len(db.RESERVED) + 2:04d}_stray.sql"
+    stray = tmp_path / f"{db.SCHEMA_VERSION + 2:04d}_stray.sql"
     stray.write_text("SELECT 1;", encoding="utf-8")
     with pytest.raises(RuntimeError, match="out of sequence"):
         db._load_migrations()

@@ -28,28 +28,15 @@ MAX_ID = 2**63 - 1
 MIGRATIONS_DIR = Path(__file__).with_name("migrations")
 
 
-# Numbers held for a migration that another line of work brings (so the files after it
-# need no second renaming). A reserved number is skipped, not counted; when its file
-# arrives, take the number out of here (the loader refuses a file with a reserved number).
-RESERVED: frozenset[int] = frozenset({6})
-
-
 def _load_migrations() -> list[str]:
-    """The numbered ``.sql`` files, in order: the n-th file takes a file from version n-1 to n.
+    """The numbered ``.sql`` files, in order: ``0001_….sql`` takes a file from version 0 to 1.
 
     Never edit a migration that has shipped: add a new file with the next number.
     """
     files = sorted(MIGRATIONS_DIR.glob("[0-9][0-9][0-9][0-9]_*.sql"))
-    expected = 1
-    for path in files:
-        while expected in RESERVED:
-            expected += 1
-        number = int(path.name[:4])
-        if number in RESERVED:
-            raise RuntimeError(f"migration {path.name} has a reserved number: remove {number} from db.RESERVED")
-        if number != expected:
+    for expected, path in enumerate(files, start=1):
+        if int(path.name[:4]) != expected:
             raise RuntimeError(f"migration {path.name} is out of sequence (expected number {expected:04d})")
-        expected += 1
     return [path.read_text(encoding="utf-8") for path in files]
 
 

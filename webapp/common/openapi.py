@@ -222,6 +222,11 @@ def snippet_update() -> dict:
     properties = {
         "version": {"type": "integer", "minimum": 1, "description": "the version the change was made against"},
         "rerun": {"type": "boolean", "description": "true: keep today's results of a re-run"},
+        snippets_api.CHANGED_BY: {
+            "type": ["string", "null"],
+            "maxLength": rules.LIMITS["saved_by"],
+            "description": 'who makes the change (shown as "changed by"; the saver stays in `saved_by`)',
+        },
     }
     properties |= {name: meta_field(name) for name in sorted(snippets_api.UPDATE_FIELDS)}
     if "title" in properties:
@@ -241,7 +246,9 @@ SNIPPET = {
         "station": {"type": "string"},
         "notes": {"type": "string"},
         "tags": {"type": "array", "items": {"type": "string"}},
-        "saved_by": {"type": "string"},
+        "saved_by": {"type": "string", "description": "who saved it first"},
+        "changed_by": {"type": "string", "description": "who made the latest change (empty: nobody said)"},
+        "deleted_by": {"type": "string", "description": "who moved it to the bin (empty when not in the bin)"},
         "inputs": {"type": "object"},
         "results": {"type": "object"},
         "created_at": {"type": "string"},
@@ -276,6 +283,13 @@ CONFLICT = {
 
 def query(name: str, schema: dict, description: str) -> dict:
     return {"name": name, "in": "query", "required": False, "description": description, "schema": schema}
+
+
+BY_PARAMETER = query(
+    snippets_api.BY_QUERY,
+    {"type": "string", "maxLength": rules.LIMITS["saved_by"]},
+    "who does it (the bin and the history say so)",
+)
 
 
 def snippet_paths() -> dict:
@@ -331,6 +345,7 @@ def snippet_paths() -> dict:
                 "parameters": [
                     *GATE_HEADERS,
                     query("version", {"type": "integer", "minimum": 1}, "refuse (409) if it changed since"),
+                    BY_PARAMETER,
                 ],
                 "responses": {
                     "200": json_body(
@@ -360,7 +375,7 @@ def snippet_paths() -> dict:
             "post": {
                 "operationId": "restore_snippet",
                 "summary": "Take a snippet back out of the bin",
-                "parameters": GATE_HEADERS,
+                "parameters": [*GATE_HEADERS, BY_PARAMETER],
                 "requestBody": {"required": False, "content": {JSON: {"schema": {"type": "object"}}}},
                 "responses": {"200": json_body(ONE), **REFUSALS, **GATE, **NOT_FOUND},
             },

@@ -11,7 +11,6 @@ and the message beside the field.
 from __future__ import annotations
 
 from datetime import date
-from urllib.parse import urlencode
 
 from flask import Blueprint, Response, abort, flash, redirect, render_template, request, url_for
 
@@ -22,7 +21,8 @@ from webapp.auth.csrf import protect
 from webapp.auth.gate import form_gate
 from webapp.common.db import get_db
 from webapp.common.forms import choose, parse_number
-from webapp.rolls import chart, exchange, register, rules, store
+from webapp.common.htmx import respond
+from webapp.rolls import chart, exchange, register, rules, shown, store
 
 bp = Blueprint("rolls", __name__)
 protect(bp)
@@ -86,11 +86,18 @@ def index():
         errors[exc.field] = exc.message
         status, low, high = "", None, None
     rows = register.overview(
-        store.all_rolls(conn), store.logs(conn), press=filters["press"], status=status, screen_low=low, screen_high=high
+        store.all_rolls(conn),
+        store.logs(conn),
+        press=filters["press"],
+        status=status,
+        screen_low=low,
+        screen_high=high,
+        unit=shown.volume_unit(),
     )
     counts = {code: sum(1 for _, wear in rows if code in wear.codes) for code in register.FLAG_NAMES}
-    return render_template(
+    return respond(
         "rolls/index.html",
+        "rolls/_list.html",
         rows=rows,
         filters=filters,
         errors=errors,
@@ -107,8 +114,9 @@ def _roll_page(roll: dict, *, measurement=None, cleaning=None, errors=None, stat
     conn = get_db()
     log = store.logs(conn, [roll["id"]])[roll["id"]]
     today = date.today()
-    wear = register.picture(roll, log, today)
-    drawing = chart.wear_chart(wear, [c["cleaned_on"] for c in log["cleaning"]], today)
+    unit = shown.volume_unit()
+    wear = register.picture(roll, log, today, unit)
+    drawing = chart.wear_chart(wear, [c["cleaned_on"] for c in log["cleaning"]], today, unit)
     return (
         render_template(
             "rolls/roll.html",
@@ -120,7 +128,7 @@ def _roll_page(roll: dict, *, measurement=None, cleaning=None, errors=None, stat
             or {
                 "measured_on": today.isoformat(),
                 "volume": "",
-                "volume_unit": "BCM/in2",
+                "volume_unit": unit,
                 "condition": "as_found",
                 "method": "",
                 "by": "",
@@ -234,7 +242,7 @@ def _roll_form(form, *, roll=None, errors=None, newer=None, status=200):
 @bp.route("/rolls/new", methods=["GET", "POST"])
 def new():
     if request.method == "GET":
-        return _roll_form(dict(ROLL_DEFAULTS, engraved_on=date.today().isoformat()))
+        return _roll_form(dict(ROLL_DEFAULTS, engraved_on=date.today().isoformat(), volume_unit=shown.volume_unit()))
     form = _form(ROLL_DEFAULTS)
     message, status = form_gate("supervise")
     if message:
@@ -253,9 +261,9 @@ def _fields_of(roll: dict) -> dict:
         "screen": f"{roll['screen_lpi']:g}",
         "screen_unit": "lpi",
         "angle": str(roll["angle"]),
-        "nominal_volume": f"{roll['nominal_bcm']:g}",
-        "volume_unit": "BCM/in2",
-        "certificate_volume": "" if roll["certificate_bcm"] is None else f"{roll['certificate_bcm']:g}",
+        "nominal_volume": shown.form_volume(roll["nominal_bcm"]),
+        "volume_unit": shown.volume_unit(),
+        "certificate_volume": shown.form_volume(roll["certificate_bcm"]),
         "engraved_on": roll["engraved_on"],
         "press": roll["press"],
         "location": roll["location"],
@@ -298,23 +306,20 @@ def fit():
             plate = None
             if form["plate_screen"].strip():
                 plate = f"{parse_number(form['plate_screen'], 'plate_screen')!r} lpi"
-            answer = register.fitting(store.all_rolls(conn), store.logs(conn), plate, form["work"])
+            answer = register.fitting(
+                store.all_rolls(conn), store.logs(conn), plate, form["work"], unit=shown.volume_unit()
+            )
         except InputError as exc:
             errors[exc.field or "work"] = exc.message
-    return render_template(
+    return respond(
         "rolls/fit.html",
+        "rolls/_fit_answer.html",
         form=form,
         answer=answer,
         errors=errors,
         kinds=WORK_KINDS,
         work_names=WORK_NAMES,
-        film_link=film_link,
     )
-
-
-def film_link(volume_bcm: float) -> str:
-    """The film chain with this volume filled in (the film page reads GET values)."""
-    return "/film?" + urlencode({"anilox_volume": f"{volume_bcm:.4g}", "anilox_unit": "BCM/in2"})
 
 
 # --- CSV -----------------------------------------------------------------------------------------

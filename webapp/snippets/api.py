@@ -16,7 +16,7 @@ from __future__ import annotations
 
 import re
 
-from flask import Blueprint, Response, jsonify, request, url_for
+from flask import Blueprint, Response, current_app, jsonify, request, url_for
 
 from calc import InputError
 from webapp.auth.gate import api_gate as require
@@ -33,6 +33,22 @@ MAX_QUERY = 200
 META_OPTIONAL = {"job_number", "press", "station", "notes", "tags", "saved_by"}
 CREATE_OPTIONAL = {*META_OPTIONAL, "client_id"}
 UPDATE_FIELDS = {"title", *META_OPTIONAL}
+# Who makes a change (shown as "changed by", "deleted by"): a body field of an update,
+# the ``by`` query parameter of a delete or a restore. Not stored as a field of its own.
+CHANGED_BY = "changed_by"
+BY_QUERY = "by"
+
+
+def _by(raw, field: str) -> str:
+    """A name as the page's "your name" takes it; the message names ``field``."""
+    if raw is None:
+        return ""
+    if not isinstance(raw, str):
+        raise InputError(field, "must be a name (text)")
+    try:
+        return store.check_by(raw)
+    except InputError as exc:
+        raise InputError(field, exc.message) from None
 
 
 @bp.errorhandler(store.NotFound)
@@ -124,8 +140,9 @@ def rerun_snippet(snippet_id: int):
 @bp.route("/<int:snippet_id>", methods=["PUT", "PATCH"])
 def update_snippet(snippet_id: int):
     require("write")
-    body = check_fields(request_body(), {"version"}, UPDATE_FIELDS | {"rerun"})
+    body = check_fields(request_body(), {"version"}, UPDATE_FIELDS | {"rerun", CHANGED_BY})
     version = body.pop("version")
+    by = _by(body.pop(CHANGED_BY, None), CHANGED_BY)
     results = None
     if not isinstance(body.get("rerun", False), bool):
         raise InputError("rerun", "must be true (keep today's results) or false")
@@ -134,20 +151,21 @@ def update_snippet(snippet_id: int):
         if rerun.error is not None:
             raise rerun.error
         results = rerun.results
-    return jsonify(store.update(get_db(), snippet_id, version, body, results=results))
+    return jsonify(store.update(get_db(), snippet_id, version, body, results=results, by=by))
 
 
 @bp.delete("/<int:snippet_id>")
 def delete_snippet(snippet_id: int):
     require("supervise")
-    snippet = store.delete(get_db(), snippet_id, request.args.get("version"))
+    by = _by(request.args.get(BY_QUERY), BY_QUERY)
+    snippet = store.delete(get_db(), snippet_id, request.args.get("version"), by=by)
     return jsonify(deleted=snippet, gone_for_good_after=store.purge_date(snippet))
 
 
 @bp.post("/<int:snippet_id>/restore")
 def restore_snippet(snippet_id: int):
     require("supervise")
-    return jsonify(store.restore(get_db(), snippet_id))
+    return jsonify(store.restore(get_db(), snippet_id, by=_by(request.args.get(BY_QUERY), BY_QUERY)))
 
 
 @bp.get("/bin")
@@ -166,7 +184,7 @@ def export_json():
 @bp.get("/export.csv")
 def export_csv():
     return Response(
-        exchange.export_csv(get_db()),
+        exchange.CSV_BOM + exchange.export_csv(get_db(), current_app.extensions.get("inkfilm_zone")),
         mimetype="text/csv",
         headers={"Content-Disposition": 'attachment; filename="inkfilm-snippets.csv"'},
     )

@@ -17,6 +17,7 @@ from datetime import datetime
 from calc import InputError
 from webapp.calculators import CALCULATIONS
 from webapp.common.db import transaction
+from webapp.common.formatting import is_number, is_quantity, local_time
 from webapp.snippets.rules import check_data, check_kind, check_meta
 from webapp.snippets.store import MAX_VERSION, insert_row, now_text, rows_to_snippets
 
@@ -73,15 +74,57 @@ def spreadsheet_safe(text: str) -> str:
     return text
 
 
-def export_csv(conn) -> str:
-    """Every snippet not in the bin as CSV, one row each; inputs and results as JSON text.
+# The figure a snippet is saved for, by kind (else the first quantity of the results):
+# the Saved list shows it, the CSV gives it as plain number and unit columns.
+HEADLINE = {
+    "convert": "result",
+    "film": "substrate_wet",
+    "estimate": "total_ink_mass",
+    "cell": "volume",
+    "density_volume_for": "anilox_volume",
+    "density_from": "density",
+    "density_fit": "d_inf",
+}
+# A spreadsheet reads a CSV file as UTF-8 only when it starts with the byte-order mark.
+CSV_BOM = "\ufeff"
+CSV_EXTRA = ("result", "result_value", "result_unit", "created_local", "updated_local")
+
+
+def headline(snippet: dict):
+    """``(name, value)`` of the result a snippet is saved for, or ``None`` (nothing to show)."""
+    results = snippet.get("results")
+    if not isinstance(results, dict):
+        return None
+    key = HEADLINE.get(snippet.get("kind"))
+    if key in results and (is_quantity(results[key]) or is_number(results[key])):
+        return key, results[key]
+    for name, value in results.items():
+        if is_quantity(value):
+            return name, value
+    return None
+
+
+def _headline_cells(snippet: dict) -> list:
+    found = headline(snippet)
+    if found is None:
+        return ["", "", ""]
+    name, value = found
+    if is_quantity(value):
+        return [name, value["value"] if is_number(value["value"]) else "", str(value["unit"])]
+    return [name, value, ""]
+
+
+def export_csv(conn, zone=None) -> str:
+    """Every snippet not in the bin as CSV, one row each; inputs and results as JSON text,
+    then the headline result as plain number and unit columns and the times in ``zone``
+    (``None``: the server's own). Served with ``CSV_BOM`` in front.
 
     Every text cell is quoted and made inert (``spreadsheet_safe``); the JSON
     export, not this file, is what imports back.
     """
     out = io.StringIO()
     writer = csv.writer(out, quoting=csv.QUOTE_NONNUMERIC)
-    writer.writerow(["id", *EXPORT_FIELDS])
+    writer.writerow(["id", *EXPORT_FIELDS, *CSV_EXTRA])
     rows = conn.execute("SELECT * FROM snippet WHERE deleted_at IS NULL ORDER BY created_at, id").fetchall()
     for snippet in rows_to_snippets(conn, rows):
         cells = [snippet["id"]]
@@ -92,6 +135,8 @@ def export_csv(conn) -> str:
             elif name in ("inputs", "results"):
                 value = json.dumps(value, ensure_ascii=False)
             cells.append(spreadsheet_safe(value) if isinstance(value, str) else value)
+        cells += [spreadsheet_safe(c) if isinstance(c, str) else c for c in _headline_cells(snippet)]
+        cells += [local_time(snippet["created_at"], zone), local_time(snippet["updated_at"], zone)]
         writer.writerow(cells)
     return out.getvalue()
 

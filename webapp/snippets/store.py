@@ -3,8 +3,10 @@
 Every change raises a snippet's ``version`` by one; a change made against an
 older version is refused with ``Conflict`` and nothing is overwritten. A
 deleted snippet lies in the bin for ``BIN_DAYS`` days and can be restored
-until then. Functions here take an open connection (``webapp.common.db``)
-and plain data checked by ``webapp.snippets.rules``.
+until then. Every version is kept in ``snippet_version`` (with who made it
+and when), so an earlier one can be looked at and brought back, and an edit
+made against an older version can be merged (``webapp.snippets.merge``).
+Functions here take an open connection (``webapp.common.db``) and plain data checked by ``webapp.snippets.rules``.
 """
 
 from __future__ import annotations
@@ -92,6 +94,8 @@ def _row_to_snippet(conn, row, tags: list[str] | None = None) -> dict:
         "notes": row["notes"],
         "tags": tags,
         "saved_by": row["saved_by"],
+        "changed_by": row["changed_by"],
+        "deleted_by": row["deleted_by"],
         "inputs": json.loads(row["inputs"]),
         "results": json.loads(row["results"]),
         "created_at": row["created_at"],
@@ -117,8 +121,31 @@ def _like(word: str) -> str:
     return "%" + word.replace("\\", "\\\\").replace("%", "\\%").replace("_", "\\_") + "%"
 
 
-def search(conn, q: str = "", *, press: str = "", kind: str = "", limit: int = 50, offset: int = 0):
-    """Snippets (newest change first) whose title, job number, notes or tags hold every word of ``q``.
+# The orders the Saved list offers; the SQL comes from here, never from the request.
+ORDERS = {
+    "newest": "s.updated_at DESC, s.id DESC",
+    "oldest": "s.updated_at, s.id",
+    "title": "s.title COLLATE NOCASE, s.id",
+    "job": "s.job_number = '', s.job_number COLLATE NOCASE, s.station, s.id",
+}
+
+
+def search(
+    conn,
+    q: str = "",
+    *,
+    press: str = "",
+    kind: str = "",
+    station: str = "",
+    changed_from: str = "",
+    changed_before: str = "",
+    order: str = "newest",
+    limit: int = 50,
+    offset: int = 0,
+):
+    """Snippets (newest change first, or another of ``ORDERS``) whose title, job number, notes or
+    tags hold every word of ``q``; ``changed_from`` / ``changed_before`` are UTC stamps
+    (``now_text``) bounding the last change.
 
     Returns ``(snippets, total)``: one page and the number of all matches.
     """
@@ -137,13 +164,64 @@ def search(conn, q: str = "", *, press: str = "", kind: str = "", limit: int = 5
     if kind:
         where.append("s.kind = ?")
         params.append(kind)
+    if station:
+        where.append("s.station = ?")
+        params.append(station)
+    if changed_from:
+        where.append("s.updated_at >= ?")
+        params.append(changed_from)
+    if changed_before:
+        where.append("s.updated_at < ?")
+        params.append(changed_before)
     condition = " AND ".join(where)
     total = conn.execute(f"SELECT count(*) FROM snippet s WHERE {condition}", params).fetchone()[0]
     rows = conn.execute(
-        f"SELECT s.* FROM snippet s WHERE {condition} ORDER BY s.updated_at DESC, s.id DESC LIMIT ? OFFSET ?",
+        f"SELECT s.* FROM snippet s WHERE {condition} ORDER BY {ORDERS.get(order, ORDERS['newest'])} LIMIT ? OFFSET ?",
         [*params, limit, offset],
     ).fetchall()
     return rows_to_snippets(conn, rows), total
+
+
+def same_as(conn, kind: str, inputs, meta: dict) -> dict | None:
+    """A snippet not in the bin that saving ``kind``/``inputs`` with ``meta`` would repeat
+    exactly (same kind, inputs, title, job number, press and station), or ``None``."""
+    try:
+        meta = check_meta(meta)
+    except InputError:
+        return None  # saving it is refused anyway, naming the field
+    row = conn.execute(
+        "SELECT * FROM snippet WHERE deleted_at IS NULL AND kind = ? AND inputs = ? AND title = ?"
+        " AND job_number = ? AND press = ? AND station = ? ORDER BY id LIMIT 1",
+        (
+            kind,
+            json.dumps(inputs, ensure_ascii=False),
+            *(str(meta.get(name) or "") for name in ("title", "job_number", "press", "station")),
+        ),
+    ).fetchone()
+    return rows_to_snippets(conn, [row])[0] if row else None
+
+
+def stations(conn) -> list[str]:
+    """The station names in use, for the list's filter."""
+    rows = conn.execute("SELECT DISTINCT station FROM snippet WHERE deleted_at IS NULL AND station != ''").fetchall()
+    return sorted((r[0] for r in rows), key=lambda v: (not v.isdecimal(), int(v) if v.isdecimal() else 0, v.lower()))
+
+
+def by_job(conn, job_number: str) -> list[dict]:
+    """Every snippet of one job number not in the bin, station by station (3 before 10, then
+    named ones), then oldest first: the job's record."""
+    job_number = " ".join(str(job_number).split())
+    if not job_number or len(job_number) > 100:
+        return []
+    rows = conn.execute(
+        "SELECT * FROM snippet WHERE deleted_at IS NULL AND job_number = ? ORDER BY created_at, id", (job_number,)
+    ).fetchall()
+
+    def station_order(snippet):
+        station = snippet["station"]
+        return (station == "", not station.isdecimal(), int(station) if station.isdecimal() else 0, station.lower())
+
+    return sorted(rows_to_snippets(conn, rows), key=station_order)
 
 
 def presses(conn) -> list[str]:
@@ -159,6 +237,12 @@ def in_bin(conn, now: datetime | None = None) -> list[dict]:
     purge(conn, now)
     rows = conn.execute("SELECT * FROM snippet WHERE deleted_at IS NOT NULL ORDER BY deleted_at DESC, id DESC")
     return rows_to_snippets(conn, rows.fetchall())
+
+
+def purge_at(snippet: dict) -> str:
+    """When a snippet in the bin goes for good, as a stored time (for showing in the shop's zone)."""
+    deleted = datetime.strptime(snippet["deleted_at"], "%Y-%m-%dT%H:%M:%SZ")
+    return now_text(deleted + timedelta(days=BIN_DAYS))
 
 
 def purge_date(snippet: dict) -> str:
@@ -215,6 +299,13 @@ def _digest(kind: str, inputs, meta: dict) -> str:
     return hashlib.sha256(text.encode("utf-8", "surrogatepass")).hexdigest()
 
 
+def saved_under(conn, client_id: str) -> bool:
+    """Whether a snippet was saved with ``client_id`` (a form sent again is its repeat, not a duplicate)."""
+    if not client_id:
+        return False
+    return conn.execute("SELECT 1 FROM snippet WHERE client_id = ?", (client_id,)).fetchone() is not None
+
+
 def _saved_under(conn, client_id: str, digest: str) -> dict | None:
     """The snippet saved with ``client_id`` (in the bin or not), if any; ``IdTaken`` if it held something else."""
     row = conn.execute("SELECT id, client_digest, deleted_at FROM snippet WHERE client_id = ?", (client_id,)).fetchone()
@@ -262,6 +353,7 @@ def create_once(
                 "UPDATE snippet SET client_id = ?, client_digest = ? WHERE id = ?",
                 (client_id, digest, cursor.lastrowid),
             )
+        _record(conn, get(conn, cursor.lastrowid), "saved", row.get("saved_by", ""), stamp)
     return get(conn, cursor.lastrowid), True
 
 
@@ -281,27 +373,32 @@ def update(
     changes: dict,
     *,
     results: dict | None = None,
+    by: str = "",
     now: datetime | None = None,
 ) -> dict:
     """Apply ``changes`` (title, notes, …) made against ``version``; the changed snippet.
 
-    ``results``, when given, replaces the saved results (a re-run kept). Raises
-    ``Conflict`` with the newer snippet if someone changed it meanwhile.
+    ``results``, when given, replaces the saved results (a re-run kept). ``by``
+    is who made the change (shown as "changed by"). The version before is kept.
+    Raises ``Conflict`` with the newer snippet if someone changed it meanwhile.
     """
     version = _check_version(version)
     meta = check_meta(changes, partial=True)
+    by = check_by(by)
+    stamp = now_text(now)
     with transaction(conn):
         current = get(conn, snippet_id)
         if current["version"] != version:
             raise Conflict(current)
+        _record_as_found(conn, current)
         columns = [name for name in META_FIELDS if name in meta and name != "tags"]
         assignments = [f"{name} = ?" for name in columns]
         params = [meta[name] for name in columns]
         if results is not None:
             assignments.append("results = ?")
             params.append(json.dumps(results, ensure_ascii=False))
-        assignments += ["updated_at = ?", "version = version + 1"]
-        params += [now_text(now), snippet_id, version]
+        assignments += ["changed_by = ?", "updated_at = ?", "version = version + 1"]
+        params += [by, stamp, snippet_id, version]
         # The column names come from META_FIELDS, never from the request.
         cursor = conn.execute(
             f"UPDATE snippet SET {', '.join(assignments)} WHERE id = ? AND version = ? AND deleted_at IS NULL",
@@ -311,29 +408,42 @@ def update(
             raise Conflict(get(conn, snippet_id))
         if "tags" in meta:
             _write_tags(conn, snippet_id, meta["tags"])
+        event = "edited" if meta or results is None else "results"
+        _record(conn, get(conn, snippet_id), event, by, stamp)
     return get(conn, snippet_id)
 
 
-def delete(conn, snippet_id: int, version=None, *, now: datetime | None = None) -> dict:
-    """Move the snippet to the bin (refused as a ``Conflict`` if ``version`` is given and stale)."""
+def delete(conn, snippet_id: int, version=None, *, by: str = "", now: datetime | None = None) -> dict:
+    """Move the snippet to the bin (refused as a ``Conflict`` if ``version`` is given and stale);
+    ``by`` is who deleted it (the bin says so)."""
+    by = check_by(by)
+    stamp = now_text(now)
     with transaction(conn):
         current = get(conn, snippet_id)
         if version not in (None, "") and current["version"] != _check_version(version):
             raise Conflict(current)
+        _record_as_found(conn, current)
         conn.execute(
-            "UPDATE snippet SET deleted_at = ?, version = version + 1 WHERE id = ?", (now_text(now), snippet_id)
+            "UPDATE snippet SET deleted_at = ?, deleted_by = ?, version = version + 1 WHERE id = ?",
+            (stamp, by, snippet_id),
         )
+        _record(conn, get(conn, snippet_id, deleted=True), "deleted", by, stamp)
     return get(conn, snippet_id, deleted=True)
 
 
-def restore(conn, snippet_id: int, *, now: datetime | None = None) -> dict:
+def restore(conn, snippet_id: int, *, by: str = "", now: datetime | None = None) -> dict:
     """Take the snippet back out of the bin."""
+    by = check_by(by)
+    stamp = now_text(now)
     with transaction(conn):
-        get(conn, snippet_id, deleted=True)
+        current = get(conn, snippet_id, deleted=True)
+        _record_as_found(conn, current)
         conn.execute(
-            "UPDATE snippet SET deleted_at = NULL, updated_at = ?, version = version + 1 WHERE id = ?",
-            (now_text(now), snippet_id),
+            "UPDATE snippet SET deleted_at = NULL, deleted_by = '', changed_by = ?, updated_at = ?,"
+            " version = version + 1 WHERE id = ?",
+            (by, stamp, snippet_id),
         )
+        _record(conn, get(conn, snippet_id), "restored", by, stamp)
     return get(conn, snippet_id)
 
 
@@ -342,3 +452,136 @@ def purge(conn, now: datetime | None = None) -> int:
     cutoff = now_text((now or datetime.now(UTC)) - timedelta(days=BIN_DAYS))
     with transaction(conn):
         return conn.execute("DELETE FROM snippet WHERE deleted_at IS NOT NULL AND deleted_at < ?", (cutoff,)).rowcount
+
+
+# --- versions and history ---------------------------------------------------------
+
+# What a kept version holds: everything a person or a re-run can change.
+VERSION_FIELDS = (*META_FIELDS, "inputs", "results")
+# How a version came about, as the history page says it.
+EVENTS = {
+    "saved": "saved",
+    "edited": "edited",
+    "results": "today's results kept",
+    "deleted": "moved to the bin",
+    "restored": "taken back out of the bin",
+    "reverted": "an earlier version brought back",
+    "found": "as it was when history began",
+}
+
+
+def check_by(by) -> str:
+    """Who made a change: a name as the "saved by" field takes it (may be empty)."""
+    if by in (None, ""):
+        return ""
+    return check_meta({"saved_by": by}, partial=True)["saved_by"]
+
+
+def _state(snippet: dict) -> dict:
+    return {name: snippet[name] for name in VERSION_FIELDS}
+
+
+def _record(conn, snippet: dict, event: str, by: str, at: str, **extra) -> None:
+    """Keep ``snippet`` as its version (once: a version already kept stays as it was)."""
+    data = {**_state(snippet), "event": event, **extra}
+    conn.execute(
+        "INSERT OR IGNORE INTO snippet_version (snippet_id, version, data, changed_by, changed_at)"
+        " VALUES (?, ?, ?, ?, ?)",
+        (snippet["id"], snippet["version"], json.dumps(data, ensure_ascii=False), by, at),
+    )
+
+
+def _record_as_found(conn, current: dict) -> None:
+    """Before a change: keep the version about to be replaced, if it was made before
+    history was kept (a snippet from an older inkfilm, or imported)."""
+    first = current["version"] == 1
+    by = current["saved_by"] if first else current["changed_by"]
+    _record(conn, current, "saved" if first else "found", by, current["updated_at"])
+
+
+def _version_row(row) -> dict:
+    data = json.loads(row["data"])
+    event = data.pop("event", "edited")
+    restored_from = data.pop("restored_from", None)
+    return {
+        **data,
+        "version": row["version"],
+        "changed_by": row["changed_by"],
+        "changed_at": row["changed_at"],
+        "event": event,
+        "event_text": EVENTS.get(event, event),
+        "restored_from": restored_from,
+    }
+
+
+def _snippet_any(conn, snippet_id: int) -> dict:
+    try:
+        return get(conn, snippet_id)
+    except NotFound:
+        return get(conn, snippet_id, deleted=True)
+
+
+def history(conn, snippet_id: int) -> list[dict]:
+    """Every kept version of the snippet, newest first (the current one too, also in the bin):
+    its fields, inputs and results, ``version``, ``changed_by``, ``changed_at`` and ``event``."""
+    current = _snippet_any(conn, snippet_id)
+    rows = conn.execute(
+        "SELECT * FROM snippet_version WHERE snippet_id = ? ORDER BY version DESC", (snippet_id,)
+    ).fetchall()
+    versions = [_version_row(row) for row in rows]
+    if not versions or versions[0]["version"] != current["version"]:
+        first = current["version"] == 1
+        versions.insert(
+            0,
+            {
+                **_state(current),
+                "version": current["version"],
+                "changed_by": current["saved_by"] if first else current["changed_by"],
+                "changed_at": current["deleted_at"] or current["updated_at"],
+                "event": "saved" if first else "found",
+                "event_text": EVENTS["saved" if first else "found"],
+                "restored_from": None,
+            },
+        )
+    return versions
+
+
+def version_of(conn, snippet_id: int, version) -> dict:
+    """The snippet as it was at ``version`` (``NotFound`` if that version was not kept)."""
+    version = _check_version(version)
+    for kept in history(conn, snippet_id):
+        if kept["version"] == version:
+            return kept
+    raise NotFound(snippet_id)
+
+
+def restore_version(conn, snippet_id: int, old_version, version, *, by: str = "", now: datetime | None = None) -> dict:
+    """Bring back the fields, inputs and results of ``old_version`` as a new version,
+    made against ``version`` (``Conflict`` if that is stale); the version it replaces is kept."""
+    version = _check_version(version)
+    by = check_by(by)
+    stamp = now_text(now)
+    with transaction(conn):
+        current = get(conn, snippet_id)
+        if current["version"] != version:
+            raise Conflict(current)
+        old = version_of(conn, snippet_id, old_version)
+        _record_as_found(conn, current)
+        meta = check_meta({name: old[name] for name in META_FIELDS})
+        columns = [name for name in META_FIELDS if name != "tags"]
+        conn.execute(
+            f"UPDATE snippet SET {', '.join(f'{name} = ?' for name in columns)}, inputs = ?, results = ?,"
+            " changed_by = ?, updated_at = ?, version = version + 1 WHERE id = ? AND version = ?",
+            [
+                *(meta[name] for name in columns),
+                json.dumps(old["inputs"], ensure_ascii=False),
+                json.dumps(old["results"], ensure_ascii=False),
+                by,
+                stamp,
+                snippet_id,
+                version,
+            ],
+        )
+        _write_tags(conn, snippet_id, meta["tags"])
+        _record(conn, get(conn, snippet_id), "reverted", by, stamp, restored_from=old["version"])
+    return get(conn, snippet_id)

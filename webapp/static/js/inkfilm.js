@@ -163,6 +163,63 @@
   document.body.addEventListener("htmx:afterSettle", markInvalid);
   markInvalid();
 
+  // --- Job ink estimate (calculators/_estimate_area.html) ---------------------------
+  // While the form is edited the server keeps the last good totals on screen; it needs to
+  // know which event sent the form (a submit makes an empty field an error) and which fields
+  // were left (an empty field that was left is one too). After a station is added, copied
+  // or removed, keyboard focus goes to that station (or the next one), not the footer.
+  var ESTIMATE = "estimate-form";
+  var leftFields = {};
+  function estimateForm(elt) {
+    var form = elt && (elt.tagName === "FORM" ? elt : elt.form);
+    return form && form.id === ESTIMATE ? form : null;
+  }
+  document.body.addEventListener("focusout", function (event) {
+    var field = event.target;
+    var form = estimateForm(field);
+    if (!form || !field.name || field.tagName !== "INPUT" || leftFields[field.name]) return;
+    leftFields[field.name] = true;
+    if (!field.value.trim() && window.htmx) window.htmx.trigger(form, "refresh");
+  });
+  document.body.addEventListener("htmx:configRequest", function (event) {
+    if (!estimateForm(event.detail.elt)) return;
+    var trigger = event.detail.triggeringEvent;
+    event.detail.parameters["_event"] = trigger ? trigger.type : "";
+    event.detail.parameters["_left"] = Object.keys(leftFields).join(" ");
+  });
+  // The rough coverage menu fills in its typical value, which stays editable.
+  document.body.addEventListener("change", function (event) {
+    var menu = event.target;
+    if (!menu.matches || !menu.matches("select[data-typical-for]")) return;
+    var option = menu.options[menu.selectedIndex];
+    var field = document.getElementById(menu.getAttribute("data-typical-for"));
+    var typical = option && option.getAttribute("data-typical");
+    if (field && typical) field.value = typical;
+  });
+  var stationAction = null;
+  document.body.addEventListener("click", function (event) {
+    var button = event.target.closest && event.target.closest('button[name="action"]');
+    if (!button || !estimateForm(button) || !/^(add|copy-|remove-)/.test(button.value)) return;
+    stationAction = { value: button.value, area: document.getElementById("estimate-area") };
+  });
+  document.body.addEventListener("htmx:afterSettle", function () {
+    var area = document.getElementById("estimate-area");
+    if (!stationAction || !area || area === stationAction.area) return;  // the form is not new yet
+    var action = stationAction.value;
+    stationAction = null;
+    Object.keys(leftFields).forEach(function (name) { if (name.indexOf("stations[") === 0) delete leftFields[name]; });
+    var folds = area.querySelectorAll("details.station-fold");
+    if (!folds.length) return;
+    var index = folds.length - 1;  // added or copied: the last one
+    if (action.indexOf("remove-") === 0) index = Math.min(parseInt(action.slice(7), 10) || 0, folds.length - 1);
+    var fold = folds[index];
+    var target = fold.open ? fold.querySelector("fieldset input, fieldset select") : fold.querySelector("summary");
+    if (target) {
+      target.focus({ preventScroll: true });
+      fold.scrollIntoView({ block: "start" });
+    }
+  });
+
   // --- Print --------------------------------------------------------------------
   document.body.addEventListener("click", function (event) {
     if (event.target.closest && event.target.closest("[data-print]")) window.print();
