@@ -1,8 +1,9 @@
 """The roll register in Chromium: at tablet size add a roll, log three measurements and a cleaning,
-see the chart and the forecast; at phone size find the rolls for a 150 lpi process job and open
-one in the film chain and in the job estimate. The fit form and the overview filter update live;
-axe-core finds no serious problem on the register's pages (the demo shop's register) at tablet and
-phone size; screenshots of each; offline, a register page says plainly that it needs the server."""
+see the chart and the forecast, correct a measurement from the roll page; at phone size find the
+rolls for a 150 lpi process job and open one in the film chain and in the job estimate. The fit
+form and the overview filter update live; axe-core finds no serious problem on the register's pages
+(the demo shop's register) at tablet and phone size; screenshots of each; offline, a register page
+says plainly that it needs the server."""
 
 from __future__ import annotations
 
@@ -121,8 +122,14 @@ def register_pages(rolls: dict) -> dict:
 @pytest.mark.parametrize(("size", "viewport"), [("tablet", TABLET), ("phone", PHONE)])
 def test_axe_and_screenshots_of_the_register_pages(open_context, check_axe, screenshots, demo_shop, size, viewport):
     base, rolls = demo_shop
+    pages = register_pages(rolls)
+    plugged = rolls["NW-104"]
+    for kinds in ("measurements", "cleanings"):
+        with urllib.request.urlopen(f"{base}/api/v1/rolls/{plugged}/{kinds}", timeout=10) as answer:
+            entry = json.load(answer)[kinds][0]["id"]
+        pages[f"correct-{kinds[:-1]}"] = f"/rolls/{plugged}/{kinds[:-1]}/{entry}/correct"
     page = open_context(viewport, bypass_csp=True, base_url=base).new_page()
-    for name, path in register_pages(rolls).items():
+    for name, path in pages.items():
         page.goto(path)
         expect(page.locator("main h1, h1").first).to_be_visible()
         assert page.evaluate("document.documentElement.scrollWidth") <= viewport["width"], name
@@ -169,3 +176,46 @@ def test_offline_a_register_page_says_it_needs_the_server(open_context, screensh
     context.set_offline(False)
     page.goto("/rolls")
     expect(page.get_by_role("heading", name="Anilox rolls")).to_be_visible()
+
+
+def _post_json(base: str, path: str, body: dict) -> dict:
+    request = urllib.request.Request(
+        base + path, data=json.dumps(body).encode(), headers={"Content-Type": "application/json"}, method="POST"
+    )
+    with urllib.request.urlopen(request, timeout=10) as answer:
+        return json.load(answer)
+
+
+def test_a_supervisor_corrects_a_measurement_on_a_tablet(open_context, live_server):
+    today = date.today()
+    roll = _post_json(
+        live_server,
+        "/api/v1/rolls",
+        {
+            "roll_id": f"C-{random.randint(1000, 9999)}",
+            "screen": "900 lpi",
+            "angle": 60,
+            "nominal_volume": "1.8 BCM/in2",
+            "engraved_on": (today - timedelta(days=400)).isoformat(),
+            "status": "in_use",
+        },
+    )
+    day = (today - timedelta(days=10)).isoformat()
+    body = {"measured_on": day, "volume": "1.48 BCM/in2", "condition": "as_found", "by": "Ines"}
+    _post_json(live_server, f"/api/v1/rolls/{roll['id']}/measurements", body)
+    tablet = open_context(TABLET)
+    tablet.add_cookies([{"name": "inkfilm_units", "value": "imperial", "url": live_server}])
+    page = tablet.new_page()
+    page.goto(f"/rolls/{roll['id']}")
+    rows = page.locator("#logs tbody tr")
+    expect(rows.first).to_contain_text("1.48")
+    rows.first.get_by_role("link", name=re.compile("^Correct")).click()
+    expect(page.get_by_label("Volume", exact=True)).to_have_value("1.48")
+    expect(page.get_by_label("Measured by")).to_have_value("Ines")
+    page.get_by_label("Volume", exact=True).fill("1.84")
+    page.get_by_label("Why the correction").fill("digits swapped")
+    page.get_by_role("button", name="Save the correction").click()
+    expect(page.get_by_text("The measurement was corrected")).to_be_visible()
+    expect(page.locator("#logs tbody tr").first).to_contain_text("1.84")
+    expect(page.locator("#logs")).not_to_contain_text("1.48")
+    assert page.evaluate("document.documentElement.scrollWidth") <= TABLET["width"]

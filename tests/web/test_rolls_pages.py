@@ -257,3 +257,104 @@ def test_the_fit_form_and_the_overview_filter_answer_htmx_with_their_fragment_an
     assert re.search(r'id="slot-screen_min" class="error-slot" hx-swap-oob="innerHTML"><p[^>]*>must be a line', refused)
     page = client.get("/rolls").get_data(as_text=True)
     assert 'hx-target="#rolls-list"' in page and 'id="rolls-list"' in page and "hx-swap-oob" not in page
+
+
+# --- correcting a logged entry from the page ------------------------------------------------------
+
+
+def correct_form(token, **changes):
+    return {
+        "csrf_token": token,
+        "version": "1",
+        "measured_on": (TODAY - timedelta(days=30)).isoformat(),
+        "volume": "1.84",
+        "volume_unit": "BCM/in2",
+        "condition": "after_cleaning",
+        "method": "spread test",
+        "by": "Ines",
+        "reason": "digits swapped",
+        **changes,
+    }
+
+
+def test_a_supervisor_corrects_a_measurement_from_the_roll_page_and_the_old_values_are_kept(client, csrf_token):
+    roll = add_roll(client)
+    entry = measure(client, roll["id"], 30, "1.48 BCM/in2")
+    page = client.get(f"/rolls/{roll['id']}").get_data(as_text=True)
+    link = f"/rolls/{roll['id']}/measurement/{entry['id']}/correct"
+    assert f'href="{link}"' in page and "Remove" in page
+    form = client.get(link).get_data(as_text=True)
+    # Pre-filled with the entry in the preferred unit (metric: 1.48 BCM/in² = 2.29631 cm³/m²), its version hidden.
+    assert 'name="version" value="1"' in form and 'value="spread test"' in form and 'value="Ines"' in form
+    assert f'value="{1.48 * PER_BCM["cm3/m2"]:.6g}"' in form and 'value="after_cleaning" checked' in form
+    response = client.post(link, data=correct_form(csrf_token))
+    assert response.status_code == 303 and response.headers["Location"].endswith(f"/rolls/{roll['id']}#wear")
+    read = client.get(f"{URL}/{roll['id']}/measurements/{entry['id']}").get_json()
+    assert read["volume"]["value"] == 1.84 and read["version"] == 2
+    assert read["changes"][0]["before"]["volume_bcm"] == 1.48 and read["changes"][0]["reason"] == "digits swapped"
+    page = client.get(f"/rolls/{roll['id']}").get_data(as_text=True)
+    assert "was corrected" in page and f"{1.84 * PER_BCM['cm3/m2']:.3g}" in page  # table and chart worked out again
+
+
+def test_a_supervisor_corrects_a_cleaning_from_the_roll_page(client, csrf_token):
+    roll = add_roll(client)
+    body = {"cleaned_on": (TODAY - timedelta(days=9)).isoformat(), "method": "laser", "by": "Bo", "notes": "one pass"}
+    cleaning = client.post(f"{URL}/{roll['id']}/cleanings", json=body).get_json()
+    link = f"/rolls/{roll['id']}/cleaning/{cleaning['id']}/correct"
+    assert f'href="{link}"' in client.get(f"/rolls/{roll['id']}").get_data(as_text=True)
+    form = client.get(link).get_data(as_text=True)
+    assert 'value="laser"' in form and "one pass</textarea>" in form and 'name="version" value="1"' in form
+    data = {"csrf_token": csrf_token, "version": "1", **body, "method": "soda blast", "notes": "two passes"}
+    assert client.post(link, data=data).status_code == 303
+    read = client.get(f"{URL}/{roll['id']}/cleanings/{cleaning['id']}").get_json()
+    assert read["method"] == "soda blast" and read["notes"] == "two passes"
+    assert read["changes"][0]["before"]["method"] == "laser"
+
+
+def test_a_stale_correction_is_409_with_the_newer_entry_and_nothing_overwritten(client, csrf_token):
+    roll = add_roll(client)
+    entry = measure(client, roll["id"], 30, "1.48 BCM/in2")
+    url = f"{URL}/{roll['id']}/measurements/{entry['id']}"
+    assert client.put(url, json={"version": 1, "volume": "1.5 BCM/in2"}).status_code == 200
+    link = f"/rolls/{roll['id']}/measurement/{entry['id']}/correct"
+    response = client.post(link, data=correct_form(csrf_token, volume="1.84", method="my microscope"))
+    assert response.status_code == 409
+    page = response.get_data(as_text=True)
+    assert "changed by someone else meanwhile" in page.lower() and "Nothing was overwritten" in page
+    assert 'value="my microscope"' in page and 'value="1.84"' in page and 'name="version" value="2"' in page
+    assert client.get(url).get_json()["volume"]["value"] == 1.5
+
+
+def test_a_bad_correction_keeps_the_typed_words_with_the_message_beside_the_field(client, csrf_token):
+    roll = add_roll(client)
+    entry = measure(client, roll["id"], 30, "1.48 BCM/in2")
+    link = f"/rolls/{roll['id']}/measurement/{entry['id']}/correct"
+    response = client.post(link, data=correct_form(csrf_token, volume="1,8x", method="typed on the tablet"))
+    assert response.status_code == 400
+    page = response.get_data(as_text=True)
+    assert 'id="e-m-volume"' in page and 'value="1,8x"' in page and 'value="typed on the tablet"' in page
+    future = client.post(link, data=correct_form(csrf_token, measured_on=(TODAY + timedelta(days=3)).isoformat()))
+    assert future.status_code == 400 and 'id="e-m-measured_on"' in future.get_data(as_text=True)
+    read = client.get(f"{URL}/{roll['id']}/measurements/{entry['id']}").get_json()
+    assert read["volume"]["value"] == 1.48 and read["changes"] == []
+
+
+def test_correcting_needs_the_supervisor_and_the_csrf_token(client, locked):
+    roll = add_roll(client)
+    entry = measure(client, roll["id"], 30, "1.48 BCM/in2")
+    link = f"/rolls/{roll['id']}/measurement/{entry['id']}/correct"
+    assert client.post(link, data={k: v for k, v in correct_form("").items() if k != "csrf_token"}).status_code == 400
+    assert client.get(f"{URL}/{roll['id']}/measurements/{entry['id']}").get_json()["changes"] == []
+    # Locked: no Correct link for anyone not unlocked, and the form refuses a shop passcode.
+    roll = add_roll(locked, headers={"X-Inkfilm-Passcode": SUPERVISOR})
+    entry = measure(locked, roll["id"], 30, "1.48 BCM/in2", headers={"X-Inkfilm-Passcode": SHOP})
+    link = f"/rolls/{roll['id']}/measurement/{entry['id']}/correct"
+    assert "/correct" not in locked.get(f"/rolls/{roll['id']}").get_data(as_text=True)
+    token = CSRF.search(locked.get(link).get_data(as_text=True)).group(1)
+    refused = locked.post(link, data=correct_form(token, method="kept words"))
+    assert refused.status_code == 403 and 'value="kept words"' in refused.get_data(as_text=True)
+    assert 'id="e-m-passcode"' in refused.get_data(as_text=True)
+    assert locked.post(link, data=correct_form(token, passcode=SHOP)).status_code == 403
+    assert locked.get(f"{URL}/{roll['id']}/measurements/{entry['id']}").get_json()["changes"] == []
+    assert locked.post(link, data=correct_form(token, passcode=SUPERVISOR)).status_code == 303
+    assert f'href="{link}"' in locked.get(f"/rolls/{roll['id']}").get_data(as_text=True)

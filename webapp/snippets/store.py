@@ -19,6 +19,7 @@ from datetime import UTC, datetime, timedelta
 
 from calc import InputError
 from webapp.common.db import MAX_ID, transaction
+from webapp.common.jsontext import has_lone_surrogate
 from webapp.snippets.rules import META_FIELDS, check_client_id, check_kind, check_meta, compute
 
 BIN_DAYS = 30
@@ -189,12 +190,15 @@ def same_as(conn, kind: str, inputs, meta: dict) -> dict | None:
         meta = check_meta(meta)
     except InputError:
         return None  # saving it is refused anyway, naming the field
+    typed = json.dumps(inputs, ensure_ascii=False)
+    if has_lone_surrogate(typed) or has_lone_surrogate(str(kind)):
+        return None  # refused when it is saved, naming the field (SQLite cannot even be asked)
     row = conn.execute(
         "SELECT * FROM snippet WHERE deleted_at IS NULL AND kind = ? AND inputs = ? AND title = ?"
         " AND job_number = ? AND press = ? AND station = ? ORDER BY id LIMIT 1",
         (
             kind,
-            json.dumps(inputs, ensure_ascii=False),
+            typed,
             *(str(meta.get(name) or "") for name in ("title", "job_number", "press", "station")),
         ),
     ).fetchone()
