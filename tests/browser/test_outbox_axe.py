@@ -43,7 +43,7 @@ def test_an_answer_worked_out_offline_is_saved_through_the_outbox_and_the_outbox
 
         page.locator("#outbox-link").click()
         expect(page.locator(".outbox-item")).to_have_count(1)
-        expect(page.locator(".outbox-item").first).to_contain_text("Quick converter: 4.5 BCM/in2")
+        expect(page.locator(".outbox-item").first).to_contain_text("Convert: 4.5 BCM/in²")
         page.screenshot(path=str(screenshots / "outbox-offline-answer-phone.png"), full_page=True)
         check_axe(page, "/outbox, one save waiting")
         assert snippets_on(base) == []

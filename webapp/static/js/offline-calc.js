@@ -597,6 +597,9 @@
       var json = pyJson(body).replace(/</g, "\\u003c").replace(/>/g, "\\u003e").replace(/&/g, "\\u0026").replace(/'/g, "\\u0027");
       // The same form as snippets/_save_button.html: the outbox keeps it when the server is out of reach.
       var saving = forms.saving, spec = saving.kinds[kind], main = spec && body[spec.main];
+      // As webapp.common.formatting.shown writes it: the unit by its label (in², not in2).
+      var typed = typeof main === "string" ? main.trim() : null, cut = typed ? typed.lastIndexOf(" ") : -1;
+      if (cut > 0) main = typed.slice(0, cut) + " " + label(typed.slice(cut + 1));
       var title = typeof main === "string" ? Array.from(spec.name + ": " + main).slice(0, saving.title_limit).join("") : spec.name;
       return '<form method="post" action="/snippets/new" class="save-snippet" data-outbox>\n' +
         '  <input type="hidden" name="csrf_token" value="' + escapeHtml(token || "") + '">\n' +
