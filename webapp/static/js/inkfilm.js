@@ -266,7 +266,12 @@
       var form = event.target;
       if (window.inkfilmOutboxReady || !form.matches("form[data-outbox]")) return;
       event.preventDefault();
-      loadOutbox().then(function () { form.requestSubmit(); }, function () { form.submit(); });
+      // A live answer may replace the pressed form while the scripts load: the press still saves what it showed.
+      function attached() {
+        if (!form.isConnected) { form.hidden = true; document.body.appendChild(form); }
+        return form;
+      }
+      loadOutbox().then(function () { attached().requestSubmit(); }, function () { attached().submit(); });
     });
     document.body.addEventListener("htmx:afterRequest", function (event) {
       var xhr = event.detail.xhr;

@@ -76,7 +76,11 @@
     const madeHere = !form.elements.client_id.value;
     if (madeHere) form.elements.client_id.value = newId();
     try {
-      if (await reachable()) form.submit();  // the usual way, with the same client_id
+      if (await reachable()) {
+        // the usual way, with the same client_id; a live answer may have replaced the form meanwhile
+        if (!form.isConnected) { form.hidden = true; document.body.appendChild(form); }
+        form.submit();
+      }
       else await keep(form, madeHere);
     } finally { delete form.dataset.busy; }
   });
