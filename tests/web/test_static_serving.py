@@ -27,7 +27,8 @@ SHOP = "Shop-4711-passcode"
 
 def versioned_addresses(client) -> list[str]:
     page = client.get("/").get_data(as_text=True)
-    return sorted(set(re.findall(r'"(/static/[^"?]+\?v=[^"]+)"', page)))
+    # every address, also each of a space-separated list (the outbox's data-scripts)
+    return sorted(set(re.findall(r'(/static/[^"?\s]+\?v=[^"\s]+)', page)))
 
 
 def holding_a_session(client) -> str:
