@@ -191,7 +191,7 @@ api.register_blueprint(named)
 
 FILM_UNITS = ("um", "mil")
 VOLUME_UNITS = ("BCM/in2", "cm3/m2")
-MAX_ROWS = 24
+MAX_ROWS = MAX_READINGS  # the page holds as many readings as the core fits (a saved snippet's every one)
 TYPICAL_TRANSFER = "25"  # about half to the plate, half of that to the stock (common practice)
 # Invented example readings (an example shop's cyan on white film): anilox volume in BCM/in², density.
 EXAMPLE_ROWS = (("1.5", "0.64"), ("2.5", "0.89"), ("3.5", "1.10"), ("4.5", "1.22"), ("6", "1.37"), ("8", "1.45"))
@@ -212,7 +212,8 @@ def row_defaults(index: int) -> dict:
 
 
 def strength_form() -> dict:
-    """The form as posted (or the example), its reading rows as a list of dicts; adds or removes a row."""
+    """The form as posted (or as its address gives it, or the example), its reading rows as a list of
+    dicts (``readings[i].value``, ``.transfer``, ``.density``); adds or removes a row."""
     form = form_values(DEFAULTS)
     try:
         count = int(form["reading_count"])
@@ -220,11 +221,18 @@ def strength_form() -> dict:
         count = len(EXAMPLE_ROWS)
     posted = request.method == "POST"
     action = request.form.get("action", "") if posted else ""
+    # An address may give the rows too (a saved snippet's "Open in the calculator"): then only its rows.
+    linked = not posted and any(key.startswith("readings[") for key in request.args)
     rows = []
     for index in range(max(1, min(count, MAX_ROWS))):
         row = row_defaults(index)
         if posted:
             row.update({key: request.form.get(f"readings[{index}].{key}", "") for key in ROW_KEYS})
+        elif linked:
+            row = {"value": "", "transfer": TYPICAL_TRANSFER, "density": ""}
+            for key in ROW_KEYS:
+                if f"readings[{index}].{key}" in request.args:
+                    row[key] = request.args[f"readings[{index}].{key}"][:100]
         rows.append(row)
     if action == "add" and len(rows) < MAX_ROWS:
         rows.append({"value": "", "transfer": rows[-1]["transfer"], "density": ""})

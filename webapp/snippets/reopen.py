@@ -2,17 +2,19 @@
 
 ``calculator_link(kind, inputs)`` gives the calculator page's address with the form's
 fields as GET values (``webapp.common.forms.form_values`` reads them like typed ones),
-so a person can change them and save the result as a new snippet. A calculator whose
-inputs are lists of readings (the density kinds) has no such link yet: ``None``; an
-estimate's stations go as ``stations[i].<field>`` values.
+so a person can change them and save the result as a new snippet. An estimate's stations
+go as ``stations[i].<field>`` values; the density kinds' readings open the Ink strength page
+as ``readings[i].value`` / ``.transfer`` / ``.density`` rows (``density_values``).
 """
 
 from __future__ import annotations
 
 from urllib.parse import urlencode
 
-from calc.display import format_percent
-from webapp.calculators import BY_KIND, cell, convert, estimate, film, fit
+from calc import InputError
+from calc.display import format_number, format_percent
+from calc.units import magnitude_in
+from webapp.calculators import BY_KIND, cell, convert, density, estimate, film, fit
 
 # kind → (the form's fields and defaults, API input name → form field where they differ,
 # a quantity's form field → its unit menu where that is not "<field>_unit").
@@ -136,10 +138,84 @@ def estimate_values(inputs) -> dict | None:
     return values
 
 
+# The density kinds: all open the Ink strength page (the one with a form), with their readings.
+DENSITY_KINDS = frozenset({"density_volume_for", "density_fit", "density_from"})
+DENSITY_PAGE = "density_volume_for"
+
+
+def _one_way(readings: list, field: str, units) -> str | None:
+    """The unit every reading gives its ``field`` in, if all give it as ``"<number> <unit>"`` in one
+    unit of the page's menu (``units``); else ``None``."""
+    seen = set()
+    for item in readings:
+        value = item.get(field)
+        if not isinstance(value, str):
+            return None
+        amount, _, unit = value.strip().rpartition(" ")
+        if not amount:
+            return None
+        seen.add(unit)
+    return next(iter(seen)) if len(seen) == 1 and seen <= set(units) else None
+
+
+def density_values(inputs) -> dict | None:
+    """The Ink strength form's values for a density snippet's ``inputs``: one row per reading, the
+    target density and transfer where it has them (else the page's own).
+
+    Readings all given one way (all films, or all anilox volumes with transfer) in one unit of the
+    page's menus keep their numbers as saved; any others (mixed ways, another unit) go as each
+    reading's wet film in µm as the core reads it, the same fit. ``None`` without readings (a fit's
+    parameters only), or with a reading the core refuses.
+
+    >>> values = density_values({"readings": [{"film": "1.2 um", "density": 1.1}], "target_density": 1.3})
+    >>> values["basis"], values["film_unit"], values["readings[0].value"], values["readings[0].density"]
+    ('film', 'um', '1.2', '1.1')
+    """
+    if not isinstance(inputs, dict):
+        return None
+    items = inputs.get("readings")
+    if not isinstance(items, list) or not 1 <= len(items) <= density.MAX_ROWS:
+        return None
+    try:
+        readings = density.readings_of([dict(item) if isinstance(item, dict) else item for item in items])
+    except InputError:
+        return None
+    values = {"reading_count": str(len(items))}
+    for name in ("target_density", "transfer"):
+        value = inputs.get(name)
+        if isinstance(value, int | float) and not isinstance(value, bool):
+            values[name] = format_percent(value) if name == "transfer" else repr(float(value))
+    row_transfer = values.get("transfer", density.TYPICAL_TRANSFER)
+    by_film = _one_way(items, "film", density.FILM_UNITS)
+    by_volume = _one_way(items, "anilox_volume", density.VOLUME_UNITS)
+    for index, (item, reading) in enumerate(zip(items, readings, strict=True)):
+        where = f"readings[{index}]."
+        values[where + "density"] = repr(float(item["density"]))
+        if by_volume:
+            values[where + "value"] = item["anilox_volume"].strip().rpartition(" ")[0]
+            values[where + "transfer"] = format_percent(item["transfer"])
+        else:
+            values[where + "transfer"] = row_transfer
+            if by_film:
+                values[where + "value"] = item["film"].strip().rpartition(" ")[0]
+            else:
+                values[where + "value"] = format_number(magnitude_in(reading.film, "um"), 12)
+    if by_volume:
+        values.update(basis="volume", volume_unit=by_volume)
+    else:
+        values.update(basis="film", film_unit=by_film or "um")
+    return values
+
+
 def calculator_link(kind: str, inputs) -> str | None:
     """The calculator page filled with ``inputs``, or ``None``."""
-    values = estimate_values(inputs) if kind == "estimate" else form_values(kind, inputs)
-    if values is None:
+    if kind == "estimate":
+        values = estimate_values(inputs)
+    elif kind in DENSITY_KINDS:
+        values, kind = density_values(inputs), DENSITY_PAGE
+    else:
+        values = form_values(kind, inputs)
+    if values is None or any(len(text) > MAX_VALUE for text in values.values()):
         return None
     try:
         return f"{BY_KIND[kind].path}?{urlencode(values)}"
