@@ -586,20 +586,15 @@ def estimate_form() -> dict:
 def _fill_from_ink(stations: list[dict], index: str) -> None:
     """The no-script page's "Fill from this ink": the station's density and price from the shop's ink
     it picked (the fields stay editable). An unknown station or ink leaves the fields as typed."""
-    from webapp.common.db import get_db
-    from webapp.inks import store as inks
+    from webapp.inks.fill import find, form_values
 
     station = stations[int(index)] if index.isdigit() and int(index) < len(stations) else None
-    ident = station["ink"].strip() if station else ""
-    if not (ident.isdigit() and len(ident) <= 12):
-        return
-    try:
-        ink = inks.get_ink(get_db(), int(ident))
-    except inks.NotFound:
-        return
-    station.update(ink_density=f"{ink['density_g_cm3']:.6g}", ink_density_unit="g/cm3")
-    if ink["price"] is not None:
-        station.update(price_per_kg=f"{ink['price']:.6g}", price_unit=ink["price_per"])
+    ink = find(station["ink"]) if station else None
+    if ink is not None:
+        station.update({key: value for key, value in form_values(ink).items() if key in STATION_FILLS})
+
+
+STATION_FILLS = ("ink_density", "ink_density_unit", "price_per_kg", "price_unit")
 
 
 def _count(text, field: str, *, required: bool = True):

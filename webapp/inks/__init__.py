@@ -5,6 +5,7 @@
 - ``curves``: each set's Tollenaar–Ernst fit (``calc.density``), the API's JSON, and what the register's
   rolls give with a set (read only);
 - ``exchange``: CSV export and import of inks and of readings;
+- ``fill``: an ink picked from the list as a calculator form's ink fields (film chain, Job ink stations);
 - ``pages`` and ``api``: the pages and ``/api/v1/inks``, ``/api/v1/ink-sets`` (children of ``/api/v1``);
 - ``demo``: the invented shop's inks and sets for ``inkfilm serve --demo``.
 """
@@ -15,16 +16,17 @@ from webapp.inks import api  # noqa: F401 (api nests itself under /api/v1 on imp
 
 
 def init_app(app) -> None:
-    from webapp.inks import pages, rules
+    from webapp.inks import fill, pages, rules
 
     app.register_blueprint(pages.bp)
     app.add_template_global(rules.TYPE_NAMES, "ink_type_names")
     app.add_template_global(rules.CAUTIONS, "ink_cautions")
     app.add_template_global(_shop_inks, "shop_inks")
+    app.add_template_global(fill.form_values, "ink_form_values")
 
 
 def _shop_inks() -> list[dict]:
-    """The shop's inks, for the pick list in the film chain (``templates/inks/_pick.html``)."""
+    """The shop's inks, for the pick lists of the film chain and Job ink (``templates/inks/_pick.html``)."""
     from webapp.common.db import get_db
     from webapp.inks import store
 

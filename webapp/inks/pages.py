@@ -25,6 +25,7 @@ from webapp.common.db import get_db
 from webapp.common.forms import choose, parse_number, parse_percent, quantity_text
 from webapp.common.preference import current_system
 from webapp.inks import curves, exchange, rules, store
+from webapp.inks.fill import find, form_values, percent_text
 
 bp = Blueprint("inks", __name__)
 protect(bp)
@@ -61,10 +62,6 @@ def _form(defaults: dict) -> dict:
     values = dict(defaults)
     values.update({key: request.form.get(key, "") for key in defaults if key in request.form})
     return values
-
-
-def _percent_text(share) -> str:
-    return "" if share is None else f"{share * 100:.4g}"
 
 
 # --- inks ----------------------------------------------------------------------------------------
@@ -136,8 +133,8 @@ def _ink_values(ink: dict) -> dict:
         "type": ink["ink_type"],
         "density": f"{ink['density_g_cm3']:.6g}",
         "density_unit": "g/cm3",
-        "solids_by_volume": _percent_text(ink["solids_by_volume"]),
-        "solids_by_weight": _percent_text(ink["solids_by_weight"]),
+        "solids_by_volume": percent_text(ink["solids_by_volume"]),
+        "solids_by_weight": percent_text(ink["solids_by_weight"]),
         "price": "" if ink["price"] is None else f"{ink['price']:.6g}",
         "price_per": ink["price_per"],
         "notes": ink["notes"],
@@ -489,26 +486,16 @@ def remove_reading(ink_set: int, reading: int):
 # --- picking an ink in the film chain ------------------------------------------------------------
 
 FILM_KEEPS = ("anilox_volume", "anilox_unit", "anilox_to_plate", "plate_to_substrate")
+FILM_FILLS = ("ink", "ink_density", "ink_density_unit", "solids_by_volume", "solids_by_weight")
 
 
 @bp.get("/inks/pick")
 def pick():
     """Without script: the film chain again with the picked ink's density and solids filled (still editable)."""
     values = {key: request.args[key][:40] for key in FILM_KEEPS if key in request.args}
-    ident = request.args.get("ink", "").strip()
-    if ident.isdigit():
-        try:
-            ink = store.get_ink(get_db(), int(ident[:12]))
-        except store.NotFound:
-            ink = None
-        if ink is not None:
-            values.update(
-                ink=str(ink["id"]),
-                ink_density=f"{ink['density_g_cm3']:.6g}",
-                ink_density_unit="g/cm3",
-                solids_by_volume=_percent_text(ink["solids_by_volume"]),
-                solids_by_weight=_percent_text(ink["solids_by_weight"]),
-            )
+    ink = find(request.args.get("ink"))
+    if ink is not None:
+        values.update({key: value for key, value in form_values(ink).items() if key in FILM_FILLS})
     return redirect(url_for("calculators.film", **values), code=303)
 
 
