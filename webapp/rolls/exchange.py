@@ -16,8 +16,10 @@ import io
 from datetime import date
 
 from calc import InputError
-from webapp.common.db import transaction
+from webapp.common.csvimport import ALREADY_HERE, ImportRefused, import_rows, one_per_file, read_rows, same
 from webapp.rolls import rules, store
+
+__all__ = ["COLUMNS", "REQUIRED", "MAX_ROWS", "ImportRefused", "export_csv", "import_csv"]
 
 COLUMNS = {
     "rolls": (
@@ -42,15 +44,6 @@ REQUIRED = {
 }
 KIND = {"measurements": "measurement", "cleanings": "cleaning"}
 MAX_ROWS = 50_000
-MAX_REPORTED = 50
-
-
-class ImportRefused(Exception):
-    """Some rows are wrong; nothing was imported. ``errors``: ``[{"row", "field", "message"}]``."""
-
-    def __init__(self, errors: list[dict]):
-        super().__init__(f"{len(errors)} problems; nothing was imported")
-        self.errors = errors
 
 
 def _number(value: float) -> str:
@@ -100,111 +93,49 @@ def export_csv(conn, table: str) -> str:
     return out.getvalue()
 
 
-def _rows(table: str, text: str) -> list[tuple[int, dict]]:
-    reader = csv.reader(io.StringIO(text.lstrip("\ufeff")))
-    try:
-        header = next(reader)
-    except StopIteration:
-        raise ImportRefused([{"row": 1, "field": "header", "message": "the file is empty"}]) from None
-    except csv.Error as exc:
-        raise ImportRefused([{"row": 1, "field": "header", "message": f"not a CSV file ({exc})"}]) from None
-    names = [name.strip().lower() for name in header]
-    problems = []
-    for name in names:
-        if name and name not in COLUMNS[table]:
-            problems.append({"row": 1, "field": name, "message": f"is not a column of the {table} file"})
-    for name in REQUIRED[table]:
-        if name not in names:
-            problems.append({"row": 1, "field": name, "message": "this column is missing"})
-    if problems:
-        raise ImportRefused(problems)
-    rows = []
-    try:
-        for number, cells in enumerate(reader, start=2):
-            if not any(cell.strip() for cell in cells):
-                continue
-            if len(cells) > len(names):
-                problems.append(
-                    {"row": number, "field": "row", "message": f"has {len(cells)} cells, the header {len(names)}"}
-                )
-                continue
-            rows.append((number, {name: cell for name, cell in zip(names, cells, strict=False) if name}))
-            if len(rows) > MAX_ROWS:
-                raise ImportRefused([{"row": number, "field": "row", "message": f"at most {MAX_ROWS} rows per file"}])
-    except csv.Error as exc:
-        problems.append({"row": reader.line_num, "field": "row", "message": f"cannot be read as CSV ({exc})"})
-    if problems:
-        raise ImportRefused(problems)
-    return rows
+def _entry_check(conn, rolls: dict, kind: str, today: date):
+    """Each log row through its entry check for the roll it names; one identical to a logged entry is counted."""
+    spec = store.ENTRIES[kind]
+    logged = set()
+    for ident, log in store.logs(conn).items():
+        for entry in log[kind]:
+            logged.add((ident, *(same(entry[name]) for name in spec["columns"])))
+
+    def check(_number: int, row: dict):
+        roll = rolls.get(rules.roll_key(row.get("roll_id") or ""))
+        if roll is None:
+            message = (
+                "is required"
+                if not (row.get("roll_id") or "").strip()
+                else (f"no roll '{row['roll_id'].strip()}' in the register; import the rolls file first")
+            )
+            raise InputError("roll_id", message)
+        clean = spec["check"](row, roll["engraved_on"], today)
+        key = (roll["id"], *(same(clean[name]) for name in spec["columns"]))
+        if key in logged:
+            return ALREADY_HERE
+        logged.add(key)
+        return (roll["id"], clean)
+
+    return check
 
 
 def import_csv(conn, table: str, text: str, *, today: date | None = None) -> dict:
     """Check every row of ``text``, then add them all in one transaction; ``{"added", "already_here"}``."""
     today = today or date.today()
-    rows = _rows(table, text)
-    errors: list[dict] = []
-    checked = []
+    rows = read_rows(text, table, COLUMNS[table], REQUIRED[table], MAX_ROWS)
     rolls = {rules.roll_key(roll["roll_id"]): roll for roll in store.all_rolls(conn)}
-    seen: dict[str, int] = {}
-    already = 0
-    if table == "rolls":
-        for number, row in rows:
-            try:
-                clean = rules.check_roll(row, today)
-            except InputError as exc:
-                errors.append({"row": number, "field": exc.field, "message": exc.message})
-                continue
-            key = rules.roll_key(clean["roll_id"])
-            if key in seen:
-                errors.append(
-                    {"row": number, "field": "roll_id", "message": f"'{clean['roll_id']}' is also on row {seen[key]}"}
-                )
-                continue
-            seen[key] = number
-            if key in rolls:
-                already += 1
-                continue
-            checked.append(clean)
-    else:
-        kind = KIND[table]
-        spec = store.ENTRIES[kind]
-        logged = set()
-        for ident, log in store.logs(conn).items():
-            for entry in log[kind]:
-                logged.add((ident, *(_same(entry[name]) for name in spec["columns"])))
-        for number, row in rows:
-            roll = rolls.get(rules.roll_key(row.get("roll_id") or ""))
-            if roll is None:
-                message = (
-                    "is required"
-                    if not (row.get("roll_id") or "").strip()
-                    else (f"no roll '{row['roll_id'].strip()}' in the register; import the rolls file first")
-                )
-                errors.append({"row": number, "field": "roll_id", "message": message})
-                continue
-            try:
-                clean = spec["check"](row, roll["engraved_on"], today)
-            except InputError as exc:
-                errors.append({"row": number, "field": exc.field, "message": exc.message})
-                continue
-            key = (roll["id"], *(_same(clean[name]) for name in spec["columns"]))
-            if key in logged:
-                already += 1
-                continue
-            logged.add(key)
-            checked.append((roll["id"], clean))
-    if errors:
-        raise ImportRefused(errors[:MAX_REPORTED])
-    stamp = store.now_text()
-    with transaction(conn):
+
+    def add(checked: list) -> None:
+        stamp = store.now_text()
         if table == "rolls":
             for item in checked:
                 store.insert_roll(conn, item, stamp)
         else:
             store.insert_entries(conn, KIND[table], checked, stamp)
-    return {"added": len(checked), "already_here": already}
 
-
-def _same(value):
-    """A value as compared for "already logged": volumes to 6 significant digits (the export's own precision)."""
-    return float(f"{value:.6g}") if isinstance(value, float) else value
+    if table == "rolls":
+        check = one_per_file("roll_id", rules.roll_key, rolls, lambda row: rules.check_roll(row, today))
+    else:
+        check = _entry_check(conn, rolls, KIND[table], today)
+    return import_rows(conn, rows, check, add)
