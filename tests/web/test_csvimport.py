@@ -87,3 +87,12 @@ def test_a_name_twice_in_one_file_is_refused_and_one_already_here_counted():
     with pytest.raises(InputError) as caught:
         check(4, {"name": "black"})
     assert (caught.value.field, caught.value.message) == ("name", "'black' is also on row 2")
+
+
+def test_a_log_row_identical_to_one_here_or_on_an_earlier_row_is_counted_once():
+    from webapp.common.csvimport import unless_here
+
+    logged = {("roll 1", 4.5)}
+    assert unless_here(logged, ("roll 1", 4.5), "first") is ALREADY_HERE
+    assert unless_here(logged, ("roll 1", 4.4), "second") == "second"
+    assert unless_here(logged, ("roll 1", 4.4), "again") is ALREADY_HERE

@@ -115,6 +115,15 @@ def one_per_file(field: str, key_of: Callable, known, check_row: Callable) -> Ca
     return check
 
 
+def unless_here(seen: set, key, item):
+    """``ALREADY_HERE`` for a row whose ``key`` is in ``seen`` (stored already, or on an earlier row); else
+    ``item``, its key now seen."""
+    if key in seen:
+        return ALREADY_HERE
+    seen.add(key)
+    return item
+
+
 def same(value):
     """A value as compared for "already here": floats to 6 significant digits (the exports' own precision)."""
     return float(f"{value:.6g}") if isinstance(value, float) else value

@@ -17,7 +17,7 @@ import io
 from datetime import date
 
 from calc import InputError
-from webapp.common.csvimport import ALREADY_HERE, ImportRefused, import_rows, one_per_file, read_rows, same
+from webapp.common.csvimport import ImportRefused, import_rows, one_per_file, read_rows, same, unless_here
 from webapp.inks import rules, store
 
 __all__ = ["COLUMNS", "REQUIRED", "MAX_ROWS", "ImportRefused", "export_csv", "import_csv"]
@@ -114,11 +114,7 @@ def _reading_check(conn, today: date):
         if ink_set is None:
             raise InputError("ink_set", "is required" if not name else f"no ink set '{name}' here; add the set first")
         clean = rules.check_reading(row, today)
-        key = _reading_key(ink_set["id"], clean)
-        if key in logged:
-            return ALREADY_HERE
-        logged.add(key)
-        return (ink_set["id"], clean)
+        return unless_here(logged, _reading_key(ink_set["id"], clean), (ink_set["id"], clean))
 
     return check
 

@@ -16,7 +16,7 @@ import io
 from datetime import date
 
 from calc import InputError
-from webapp.common.csvimport import ALREADY_HERE, ImportRefused, import_rows, one_per_file, read_rows, same
+from webapp.common.csvimport import ImportRefused, import_rows, one_per_file, read_rows, same, unless_here
 from webapp.rolls import rules, store
 
 __all__ = ["COLUMNS", "REQUIRED", "MAX_ROWS", "ImportRefused", "export_csv", "import_csv"]
@@ -112,10 +112,7 @@ def _entry_check(conn, rolls: dict, kind: str, today: date):
             raise InputError("roll_id", message)
         clean = spec["check"](row, roll["engraved_on"], today)
         key = (roll["id"], *(same(clean[name]) for name in spec["columns"]))
-        if key in logged:
-            return ALREADY_HERE
-        logged.add(key)
-        return (roll["id"], clean)
+        return unless_here(logged, key, (roll["id"], clean))
 
     return check
 
