@@ -39,7 +39,6 @@ import statistics
 import subprocess
 import sys
 import tempfile
-import threading
 import time
 from pathlib import Path
 from urllib.parse import urlencode
@@ -112,46 +111,11 @@ def smallest_static_file() -> str:
 def drive(
     port: int, method: str, path: str, body: bytes | None, seconds: float, connections: int, headers=None
 ) -> dict:
-    """``connections`` threads, each on one keep-alive connection, for ``seconds``."""
-    latencies: list[list[float]] = [[] for _ in range(connections)]
-    failures = [0] * connections
-    stop_at = time.perf_counter() + seconds
-    sent = {**BROWSER, **(headers or {})}
+    """``connections`` threads, each on one keep-alive connection, for ``seconds``: the load driver of
+    ``api_vs_static.py``, with a browser's headers (``BROWSER``, then ``headers``)."""
+    from benchmarks.api_vs_static import drive as load
 
-    def worker(index: int) -> None:
-        connection = http.client.HTTPConnection("127.0.0.1", port, timeout=10)
-        own = latencies[index]
-        while time.perf_counter() < stop_at:
-            began = time.perf_counter()
-            try:
-                connection.request(method, path, body, sent)
-                response = connection.getresponse()
-                response.read()
-                if response.status != 200:
-                    failures[index] += 1
-            except OSError:
-                failures[index] += 1
-                connection.close()
-                connection = http.client.HTTPConnection("127.0.0.1", port, timeout=10)
-                continue
-            own.append(time.perf_counter() - began)
-        connection.close()
-
-    threads = [threading.Thread(target=worker, args=(i,)) for i in range(connections)]
-    began = time.perf_counter()
-    for thread in threads:
-        thread.start()
-    for thread in threads:
-        thread.join()
-    elapsed = time.perf_counter() - began
-    every = sorted(x for own in latencies for x in own)
-    if not every:
-        raise SystemExit(f"no answers from {path}")
-    return {
-        "rps": len(every) / elapsed,
-        "p99_ms": every[min(len(every) - 1, int(len(every) * 0.99))] * 1000,
-        "failures": sum(failures),
-    }
+    return load(port, method, path, body, connections, seconds, {**BROWSER, **(headers or {})})
 
 
 def worker_pid(supervisor: int) -> int:
