@@ -473,6 +473,45 @@ EXPORT = {
 }
 
 
+# --- pieces the roll register's and the inks' parts share (``webapp/rolls/openapi.py``, ``webapp/inks/openapi.py``)
+
+
+def object_schema(properties: dict, required: list[str]) -> dict:
+    return {"type": "object", "properties": properties, "required": required}
+
+
+def conflict(current: dict) -> dict:
+    """The 409 of a stale change, with the newer thing (``current``)."""
+    schema = object_schema(
+        {"error": {"$ref": "#/components/schemas/ErrorDetail"}, "current": current}, ["error", "current"]
+    )
+    return {
+        "409": json_body(schema, "changed by someone else meanwhile: `current` is the newer one; send its `version`")
+    }
+
+
+def created(schema: dict) -> dict:
+    return {
+        "201": {
+            **json_body(schema, "saved"),
+            "headers": {"Location": {"description": "its address", "schema": {"type": "string"}}},
+        }
+    }
+
+
+def body(schema: dict) -> dict:
+    return {"required": True, "content": {JSON: {"schema": schema}}}
+
+
+def version_query(what: str) -> dict:
+    return {
+        **query(
+            "version", {"type": "integer", "minimum": 1}, f"the version of the {what} you read (else 400; 409 if stale)"
+        ),
+        "required": True,
+    }
+
+
 # --- the whole ---------------------------------------------------------------------------------------
 
 

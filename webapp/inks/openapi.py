@@ -17,10 +17,15 @@ from webapp.common.openapi import (
     JSON,
     REFUSALS,
     answer_schema,
+    body,
+    conflict,
+    created,
     json_body,
     query,
     request_object,
+    version_query,
 )
+from webapp.common.openapi import object_schema as _object
 from webapp.inks import api as inks_api
 from webapp.inks import exchange, rules
 
@@ -50,10 +55,6 @@ EXAMPLES = {
     "ink": {"name": "Process cyan WB", "type": "water_based", "density": "1.03 g/cm3", "solids_by_volume": 0.3},
     "reading": {"density": 1.21, "anilox_volume": "4.5 BCM/in2", "transfer": 0.25, "read_on": "2024-05-06"},
 }
-
-
-def _object(properties: dict, required: list[str]) -> dict:
-    return {"type": "object", "properties": properties, "required": required}
 
 
 CAUTION = {"type": ["string", "null"], "description": "the usual caution of a solvent-based or UV ink, else null"}
@@ -132,35 +133,6 @@ INK_ID = {"name": "ink", "in": "path", "required": True, "schema": {"type": "int
 SET_ID = {"name": "ink_set", "in": "path", "required": True, "schema": {"type": "integer", "minimum": 0}}
 READING_ID = {"name": "reading", "in": "path", "required": True, "schema": {"type": "integer", "minimum": 0}}
 NOT_FOUND = {"404": json_body(ERROR, "there is no such ink, ink set or reading")}
-
-
-def conflict(current: dict) -> dict:
-    schema = _object({"error": {"$ref": "#/components/schemas/ErrorDetail"}, "current": current}, ["error", "current"])
-    return {
-        "409": json_body(schema, "changed by someone else meanwhile: `current` is the newer one; send its `version`")
-    }
-
-
-def created(schema: dict) -> dict:
-    return {
-        "201": {
-            **json_body(schema, "saved"),
-            "headers": {"Location": {"description": "its address", "schema": {"type": "string"}}},
-        }
-    }
-
-
-def body(schema: dict) -> dict:
-    return {"required": True, "content": {JSON: {"schema": schema}}}
-
-
-def version_query(what: str) -> dict:
-    return {
-        **query(
-            "version", {"type": "integer", "minimum": 1}, f"the version of the {what} you read (else 400; 409 if stale)"
-        ),
-        "required": True,
-    }
 
 
 def _update(operation_id: str, what: str, fields: dict, one: dict) -> dict:

@@ -18,11 +18,16 @@ from webapp.common.openapi import (
     GATE_HEADERS,
     JSON,
     REFUSALS,
+    body,
+    conflict,
+    created,
     error,
     json_body,
     query,
     request_object,
+    version_query,
 )
+from webapp.common.openapi import object_schema as _object
 from webapp.rolls import api as rolls_api
 from webapp.rolls import exchange, rules
 
@@ -65,10 +70,6 @@ ROLL_ID = {"name": "roll", "in": "path", "required": True, "schema": {"type": "i
 ENTRY_ID = {"name": "entry", "in": "path", "required": True, "schema": {"type": "integer", "minimum": 0}}
 NOT_FOUND = {"404": error("there is no such roll (or log entry on it)")}
 TAGS = ["rolls"]
-
-
-def _object(properties: dict, required: list[str]) -> dict:
-    return {"type": "object", "properties": properties, "required": required}
 
 
 WEAR = _object(
@@ -140,35 +141,6 @@ CHANGE = _object(
     ["action", "before", "changed_at"],
 )
 ONE_ROLL = {"$ref": "#/components/schemas/Roll"}
-
-
-def conflict(current: dict) -> dict:
-    schema = _object({"error": {"$ref": "#/components/schemas/ErrorDetail"}, "current": current}, ["error", "current"])
-    return {
-        "409": json_body(schema, "changed by someone else meanwhile: `current` is the newer one; send its `version`")
-    }
-
-
-def created(schema: dict) -> dict:
-    return {
-        "201": {
-            **json_body(schema, "saved"),
-            "headers": {"Location": {"description": "its address", "schema": {"type": "string"}}},
-        }
-    }
-
-
-def body(schema: dict) -> dict:
-    return {"required": True, "content": {JSON: {"schema": schema}}}
-
-
-def version_query(what: str) -> dict:
-    return {
-        **query(
-            "version", {"type": "integer", "minimum": 1}, f"the version of the {what} you read (else 400; 409 if stale)"
-        ),
-        "required": True,
-    }
 
 
 # --- rolls ------------------------------------------------------------------------------------------
