@@ -56,3 +56,22 @@ def test_a_stale_change_is_answered_as_described(client):
         assert late.status_code == 409
         answer = late.get_json()
         assert set(answer) == {"error", "current"} and answer["current"]["notes"] == "first"
+
+
+def test_every_csv_import_is_described_alike_and_refuses_as_described(client, operations):
+    imports = [(path, op) for method, path, op in operations if "/import" in path and method == "post"]
+    assert sorted(path for path, _ in imports) == [
+        "/ink-sets/import/readings",
+        "/inks/import",
+        "/rolls/import/cleanings",
+        "/rolls/import/measurements",
+        "/rolls/import/rolls",
+    ]
+    refused = [op["responses"]["400"] for _, op in imports]
+    assert all(one == refused[0] for one in refused)
+    row = refused[0]["content"]["application/json"]["schema"]["properties"]["errors"]["items"]
+    assert row["required"] == ["row", "field", "message"]
+    for url in ("/api/v1/inks/import", "/api/v1/rolls/import/rolls"):
+        answer = client.post(url, json={"csv": "nonsense\n"})
+        assert answer.status_code == 400
+        assert set(answer.get_json()["errors"][0]) == {"row", "field", "message"}

@@ -512,6 +512,67 @@ def version_query(what: str) -> dict:
     }
 
 
+def csv_export(operation_id: str, summary: str, tags: list[str]) -> dict:
+    """A CSV download's ``get``."""
+    return {
+        "get": {
+            "operationId": operation_id,
+            "summary": summary,
+            "tags": tags,
+            "responses": {"200": {"description": "CSV", "content": {"text/csv": {"schema": {"type": "string"}}}}},
+        }
+    }
+
+
+_TEXT = {"type": "string"}
+IMPORT_REFUSED = {
+    "400": json_body(
+        object_schema(
+            {
+                "error": {"$ref": "#/components/schemas/ErrorDetail"},
+                "errors": {
+                    "type": "array",
+                    "items": object_schema(
+                        {"row": {"type": "integer"}, "field": _TEXT, "message": _TEXT}, ["row", "field", "message"]
+                    ),
+                },
+                "imported": {"const": 0},
+            },
+            ["error"],
+        ),
+        "bad input, or rows that are wrong (then `errors` lists them, and nothing was imported)",
+    )
+}
+
+
+def csv_import(operation_id: str, table: str, tags: list[str], fields: dict, file_description: str) -> dict:
+    """The ``post`` of a check-every-row CSV import (``webapp/common/csvimport.py``): all rows or none."""
+    return {
+        "post": {
+            "operationId": operation_id,
+            "summary": f"Add the {table} of a CSV file like the export (supervisor): all rows or none",
+            "tags": tags,
+            "parameters": GATE_HEADERS,
+            "requestBody": {
+                "required": True,
+                "description": file_description,
+                "content": {JSON: {"schema": request_object(fields, {})}},
+            },
+            "responses": {
+                "200": json_body(
+                    object_schema(
+                        {"added": {"type": "integer", "minimum": 0}, "already_here": {"type": "integer", "minimum": 0}},
+                        ["added", "already_here"],
+                    )
+                ),
+                **REFUSALS,
+                **IMPORT_REFUSED,
+                **GATE,
+            },
+        }
+    }
+
+
 # --- the whole ---------------------------------------------------------------------------------------
 
 

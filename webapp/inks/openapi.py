@@ -14,12 +14,13 @@ from webapp.common.openapi import (
     ERROR,
     GATE,
     GATE_HEADERS,
-    JSON,
     REFUSALS,
     answer_schema,
     body,
     conflict,
     created,
+    csv_export,
+    csv_import,
     json_body,
     query,
     request_object,
@@ -161,63 +162,15 @@ def _delete(operation_id: str, summary: str, what: str, one: dict, answer: dict,
     }
 
 
-def _csv_get(operation_id: str, summary: str) -> dict:
-    return {
-        "get": {
-            "operationId": operation_id,
-            "summary": summary,
-            "tags": TAGS,
-            "responses": {"200": {"description": "CSV", "content": {"text/csv": {"schema": {"type": "string"}}}}},
-        }
-    }
-
-
-IMPORT_REFUSED = {
-    "400": json_body(
-        _object(
-            {
-                "error": {"$ref": "#/components/schemas/ErrorDetail"},
-                "errors": {
-                    "type": "array",
-                    "items": _object(
-                        {"row": {"type": "integer"}, "field": TEXT, "message": TEXT}, ["row", "field", "message"]
-                    ),
-                },
-                "imported": {"const": 0},
-            },
-            ["error"],
-        ),
-        "bad input, or rows that are wrong (then `errors` lists them, and nothing was imported)",
-    )
-}
-
-
 def _csv_import(operation_id: str, table: str) -> dict:
-    return {
-        "post": {
-            "operationId": operation_id,
-            "summary": f"Add the {table} of a CSV file like the export (supervisor): all rows or none",
-            "tags": TAGS,
-            "parameters": GATE_HEADERS,
-            "requestBody": {
-                "required": True,
-                "description": f"the file's text, up to {inks_api.MAX_IMPORT_BODY // (1024 * 1024)} MiB, "
-                f"at most {exchange.MAX_ROWS} rows; columns {', '.join(exchange.COLUMNS[table])}",
-                "content": {JSON: {"schema": request_object(inks_api.IMPORT_FIELDS, {})}},
-            },
-            "responses": {
-                "200": json_body(
-                    _object(
-                        {"added": {"type": "integer", "minimum": 0}, "already_here": {"type": "integer", "minimum": 0}},
-                        ["added", "already_here"],
-                    )
-                ),
-                **REFUSALS,
-                **IMPORT_REFUSED,
-                **GATE,
-            },
-        }
-    }
+    return csv_import(
+        operation_id,
+        table,
+        TAGS,
+        inks_api.IMPORT_FIELDS,
+        f"the file's text, up to {inks_api.MAX_IMPORT_BODY // (1024 * 1024)} MiB, "
+        f"at most {exchange.MAX_ROWS} rows; columns {', '.join(exchange.COLUMNS[table])}",
+    )
 
 
 def _ink_paths() -> dict:
@@ -265,7 +218,7 @@ def _ink_paths() -> dict:
                 in_use=True,
             ),
         },
-        "/inks/export.csv": _csv_get("export_inks_csv", "Every ink as CSV (a download)"),
+        "/inks/export.csv": csv_export("export_inks_csv", "Every ink as CSV (a download)", TAGS),
         "/inks/import": _csv_import("import_inks_csv", "inks"),
     }
 
@@ -411,8 +364,8 @@ def _set_paths() -> dict:
                 },
             },
         },
-        "/ink-sets/export/readings.csv": _csv_get(
-            "export_ink_readings_csv", "Every set's readings as CSV (a download)"
+        "/ink-sets/export/readings.csv": csv_export(
+            "export_ink_readings_csv", "Every set's readings as CSV (a download)", TAGS
         ),
         "/ink-sets/import/readings": _csv_import("import_ink_readings_csv", "readings"),
     }

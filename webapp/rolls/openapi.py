@@ -16,11 +16,12 @@ from calc.wear import CONDITIONS
 from webapp.common.openapi import (
     GATE,
     GATE_HEADERS,
-    JSON,
     REFUSALS,
     body,
     conflict,
     created,
+    csv_export,
+    csv_import,
     error,
     json_body,
     query,
@@ -338,64 +339,16 @@ def entry_paths(kinds: str) -> dict:
 
 # --- CSV ----------------------------------------------------------------------------------------------
 
-IMPORT_REFUSED = {
-    "400": json_body(
-        _object(
-            {
-                "error": {"$ref": "#/components/schemas/ErrorDetail"},
-                "errors": {
-                    "type": "array",
-                    "items": _object(
-                        {"row": {"type": "integer"}, "field": TEXT, "message": TEXT}, ["row", "field", "message"]
-                    ),
-                },
-                "imported": {"const": 0},
-            },
-            ["error"],
-        ),
-        "bad input, or rows that are wrong (then `errors` lists them, and nothing was imported)",
-    )
-}
-
 
 def csv_paths(table: str) -> dict:
+    description = (
+        f"the file's text, up to {rolls_api.MAX_IMPORT_BODY // (1024 * 1024)} MiB, at most {exchange.MAX_ROWS} rows"
+    )
     return {
-        f"/rolls/export/{table}.csv": {
-            "get": {
-                "operationId": f"export_{table}_csv",
-                "summary": f"Every {table[:-1]} as CSV (a download)",
-                "tags": TAGS,
-                "responses": {"200": {"description": "CSV", "content": {"text/csv": {"schema": {"type": "string"}}}}},
-            }
-        },
-        f"/rolls/import/{table}": {
-            "post": {
-                "operationId": f"import_{table}_csv",
-                "summary": f"Add the {table} of a CSV file like the export (supervisor): all rows or none",
-                "tags": TAGS,
-                "parameters": GATE_HEADERS,
-                "requestBody": {
-                    "required": True,
-                    "description": f"the file's text, up to {rolls_api.MAX_IMPORT_BODY // (1024 * 1024)} MiB, "
-                    f"at most {exchange.MAX_ROWS} rows",
-                    "content": {JSON: {"schema": request_object({"csv": "text"}, {})}},
-                },
-                "responses": {
-                    "200": json_body(
-                        _object(
-                            {
-                                "added": {"type": "integer", "minimum": 0},
-                                "already_here": {"type": "integer", "minimum": 0},
-                            },
-                            ["added", "already_here"],
-                        )
-                    ),
-                    **REFUSALS,
-                    **IMPORT_REFUSED,
-                    **GATE,
-                },
-            }
-        },
+        f"/rolls/export/{table}.csv": csv_export(
+            f"export_{table}_csv", f"Every {table[:-1]} as CSV (a download)", TAGS
+        ),
+        f"/rolls/import/{table}": csv_import(f"import_{table}_csv", table, TAGS, {"csv": "text"}, description),
     }
 
 
