@@ -123,12 +123,7 @@ def on_rolls(curve, target, transfer, rolls: list[dict], logs: dict) -> dict:
         if roll["status"] not in AVAILABLE:
             continue
         wear = register.picture(roll, logs[roll["id"]])
-        if wear.latest is not None:
-            volume, judged_on = wear.latest.volume.to("BCM/in2").magnitude, "measured"
-        elif roll["certificate_bcm"] is not None:
-            volume, judged_on = roll["certificate_bcm"], "certificate"
-        else:
-            volume, judged_on = roll["nominal_bcm"], "nominal"
+        volume, judged_on = register.judged_volume(roll, wear)
         expected, _ = density_from_volume(curve, Q_(volume, "BCM/in2"), transfer)
         answers.append(
             {

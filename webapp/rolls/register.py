@@ -148,6 +148,17 @@ def overview(
     return rows
 
 
+def judged_volume(roll: dict, wear) -> tuple[float, str]:
+    """The volume a roll is judged on for a job, in BCM/in², and which it is: its latest measured
+    (``wear.latest``), else its certificate volume, else its nominal (``"measured"``, ``"certificate"``,
+    ``"nominal"``). The fit for a job and an ink set's densities on the register's rolls use it alike."""
+    if wear.latest is not None:
+        return wear.latest.volume.to("BCM/in2").magnitude, "measured"
+    if roll["certificate_bcm"] is not None:
+        return roll["certificate_bcm"], "certificate"
+    return roll["nominal_bcm"], "nominal"
+
+
 def fitting(rolls: list[dict], logs: dict, plate_screen, work, *, today=None, unit="BCM/in2") -> dict:
     """Which rolls in use or spare fit the job, judged on their latest measured volume; best first.
 
@@ -172,12 +183,7 @@ def fitting(rolls: list[dict], logs: dict, plate_screen, work, *, today=None, un
                 }
             )
             continue
-        if wear.latest is not None:
-            volume, judged_on = wear.latest.volume.to("BCM/in2").magnitude, "measured"
-        elif roll["certificate_bcm"] is not None:
-            volume, judged_on = roll["certificate_bcm"], "certificate"
-        else:
-            volume, judged_on = roll["nominal_bcm"], "nominal"
+        volume, judged_on = judged_volume(roll, wear)
         check = fit_check(kind, plate, Q_(roll["screen_lpi"], "lpi"), Q_(volume, "BCM/in2").to(unit))
         low = check.volume_range.low.to("BCM/in2").magnitude
         high = check.volume_range.high.to("BCM/in2").magnitude
