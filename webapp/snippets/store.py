@@ -15,13 +15,13 @@ import uuid
 from datetime import UTC, datetime, timedelta
 
 from calc import InputError
-from webapp.common.db import MAX_ID, transaction
+from webapp.common.db import MAX_ID, snapshot, transaction
 from webapp.snippets.rules import META_FIELDS, check_kind, check_meta, compute
 
 BIN_DAYS = 30
 # A version counts changes; the largest one taken keeps clear of SQLite's integers.
 MAX_VERSION = 10**15
-# Search: SQLite refuses LIKE patterns over 50,000 bytes; no word a person types is this long.
+# Search: at most this many words of at most this many characters are looked for.
 MAX_WORDS = 10
 MAX_WORD = 100
 
@@ -100,45 +100,184 @@ def get(conn, snippet_id: int, *, deleted: bool = False) -> dict:
     return _row_to_snippet(conn, row)
 
 
-def _like(word: str) -> str:
-    return "%" + word.replace("\\", "\\\\").replace("%", "\\%").replace("_", "\\_") + "%"
+# The list's sort orders: date (newest change first), title (A to Z), job (highest job number first).
+SORTS = {
+    "date": "s.updated_at DESC, s.id DESC",
+    "title": "s.title COLLATE NOCASE, s.id",
+    "job": "s.job_number DESC, s.updated_at DESC, s.id DESC",
+}
+# Above this many matches a page is found by walking the sort order and keeping the matches;
+# below it, by fetching the matches and sorting them.
+_WALK_ABOVE = 3_000
+_DATE = re.compile(r"[0-9]{4}-[0-9]{2}-[0-9]{2}")
+_WORD_PIECES = re.compile(r"[^\W_]+")
 
 
-def search(conn, q: str = "", *, press: str = "", kind: str = "", limit: int = 50, offset: int = 0):
-    """Snippets (newest change first) whose title, job number, notes or tags hold every word of ``q``.
+def match_query(q: str) -> str:
+    """The FTS5 query for what a person typed: every word, each found whole or by its start.
 
-    Returns ``(snippets, total)``: one page and the number of all matches.
+    Only letters and digits reach FTS5, each word as one quoted phrase, so no text
+    can be read as FTS5's own syntax (``AND``, ``NEAR``, ``*``, quotes, column names).
+    A one-letter word is matched whole (as a prefix it would match nearly everything).
+    ``""`` when nothing searchable was typed.
+
+    >>> match_query('24-01 Cyan "x" OR')
+    '"24 01"* "cyan"* "x" "or"*'
     """
-    where = ["s.deleted_at IS NULL"]
-    params: list = []
+    phrases = []
     for word in (q or "").split()[:MAX_WORDS]:
-        pattern = _like(word[:MAX_WORD])
-        where.append(
-            "(s.title LIKE ? ESCAPE '\\' OR s.job_number LIKE ? ESCAPE '\\' OR s.notes LIKE ? ESCAPE '\\'"
-            " OR EXISTS (SELECT 1 FROM snippet_tag t WHERE t.snippet_id = s.id AND t.tag LIKE ? ESCAPE '\\'))"
-        )
-        params += [pattern] * 4
-    if press:
-        where.append("s.press = ?")
-        params.append(press)
-    if kind:
-        where.append("s.kind = ?")
-        params.append(kind)
-    condition = " AND ".join(where)
-    total = conn.execute(f"SELECT count(*) FROM snippet s WHERE {condition}", params).fetchone()[0]
+        pieces = _WORD_PIECES.findall(word[:MAX_WORD].lower())
+        if not pieces:
+            continue
+        phrase = '"' + " ".join(pieces) + '"'
+        phrases.append(phrase + "*" if len(pieces) > 1 or len(pieces[0]) > 1 else phrase)
+    return " ".join(phrases)
+
+
+def _day(value: str, field: str) -> str:
+    value = (value or "").strip()
+    if not value:
+        return ""
+    if not _DATE.fullmatch(value):
+        raise InputError(field, "must be a date such as 2024-05-01")
+    try:
+        datetime.strptime(value, "%Y-%m-%d")
+    except ValueError:
+        raise InputError(field, "must be a date such as 2024-05-01 (that day does not exist)") from None
+    return value
+
+
+def _filters(press, station, kind, since, until) -> tuple[list[str], list]:
+    """The WHERE terms (beside ``deleted_at IS NULL``) of the list's filters, and their parameters."""
+    where: list[str] = []
+    params: list = []
+    for column, value in (("press", press), ("station", station), ("kind", kind)):
+        if value:
+            where.append(f"s.{column} = ?")
+            params.append(value)
+    since, until = _day(since, "since"), _day(until, "until")
+    if since and until and until < since:
+        raise InputError("until", "must be on or after the first day")
+    if since:
+        where.append("s.updated_at >= ?")
+        params.append(since)
+    if until:
+        # Up to the end of that day: every stamp of the day sorts before the next day's date.
+        where.append("s.updated_at < ?")
+        params.append((datetime.strptime(until, "%Y-%m-%d") + timedelta(days=1)).strftime("%Y-%m-%d"))
+    return where, params
+
+
+def search(
+    conn,
+    q: str = "",
+    *,
+    press: str = "",
+    kind: str = "",
+    limit: int = 50,
+    offset: int = 0,
+    station: str = "",
+    since: str = "",
+    until: str = "",
+    sort: str = "date",
+):
+    """Snippets not in the bin whose title, job number, notes or tags hold every word of ``q``
+    (whole, or as the start of a word), filtered by press, station, kind and a range of days
+    of their last change (``since``/``until``, ``YYYY-MM-DD``, inclusive), in the order
+    ``sort`` (a key of ``SORTS``).
+
+    Returns ``(snippets, total)``: one page and the number of all matches, both from one
+    snapshot of the file. Words go to the FTS5 index ``snippet_search`` (see ``match_query``).
+    """
+    order = SORTS.get(sort)
+    if order is None:
+        raise InputError("sort", f"must be one of: {', '.join(SORTS)}")
+    where, params = _filters(press, station, kind, since, until)
+    match = match_query(q)
+    if (q or "").strip() and not match:
+        return [], 0  # only signs typed (``_``, ``%``): nothing holds them as a word
+    limit, offset = max(0, int(limit)), max(0, int(offset))
+    with snapshot(conn):
+        if match:
+            if where:
+                total = conn.execute(
+                    "SELECT count(*) FROM snippet s WHERE s.deleted_at IS NULL AND "
+                    "s.id IN (SELECT rowid FROM snippet_search WHERE snippet_search MATCH ?) AND "
+                    + " AND ".join(where),
+                    [match, *params],
+                ).fetchone()[0]
+            else:
+                # The index holds no snippet of the bin: its count is the answer.
+                total = conn.execute(
+                    "SELECT count(*) FROM snippet_search WHERE snippet_search MATCH ?", (match,)
+                ).fetchone()[0]
+            if total == 0 or offset >= total:
+                return [], total
+            # Few matches: look each up and sort them. Many: walk the sort order's index and keep
+            # the matches ("+s.id" stops SQLite from looking every match up first).
+            id_term = "s.id" if total <= _WALK_ABOVE else "+s.id"
+            matching = f"{id_term} IN (SELECT rowid FROM snippet_search WHERE snippet_search MATCH ?)"
+            condition = " AND ".join(["s.deleted_at IS NULL", matching, *where])
+            params = [match, *params]
+        else:
+            condition = " AND ".join(["s.deleted_at IS NULL", *where])
+            total = conn.execute(f"SELECT count(*) FROM snippet s WHERE {condition}", params).fetchone()[0]
+            if total == 0 or offset >= total:
+                return [], total
+        # ``order`` and the terms come from SORTS and _filters, never from the request.
+        rows = conn.execute(
+            f"SELECT s.* FROM snippet s WHERE {condition} ORDER BY {order} LIMIT ? OFFSET ?",
+            [*params, limit, offset],
+        ).fetchall()
+        return rows_to_snippets(conn, rows), total
+
+
+def _distinct(conn, column: str) -> list[str]:
+    """The distinct non-empty values of ``column`` among snippets not in the bin, in order.
+
+    One index seek per value (the partial indexes ``snippet_live_press``/``_station``), not a
+    scan of every snippet: a shop has a few presses and a million snippets.
+    """
+    # ``column`` is "press" or "station", never from a request.
     rows = conn.execute(
-        f"SELECT s.* FROM snippet s WHERE {condition} ORDER BY s.updated_at DESC, s.id DESC LIMIT ? OFFSET ?",
-        [*params, limit, offset],
+        f"WITH RECURSIVE v(x) AS ("
+        f" SELECT (SELECT min({column}) FROM snippet WHERE deleted_at IS NULL AND {column} > '')"
+        f" UNION ALL"
+        f" SELECT (SELECT min({column}) FROM snippet WHERE deleted_at IS NULL AND {column} > v.x)"
+        f" FROM v WHERE v.x IS NOT NULL"
+        f") SELECT x FROM v WHERE x IS NOT NULL"
     ).fetchall()
-    return rows_to_snippets(conn, rows), total
+    return [row[0] for row in rows]
 
 
 def presses(conn) -> list[str]:
     """The presses named on snippets not in the bin, for a filter."""
+    return _distinct(conn, "press")
+
+
+def stations(conn) -> list[str]:
+    """The stations named on snippets not in the bin, for a filter (numbers in number order)."""
+    return sorted(_distinct(conn, "station"), key=lambda name: (not name.isdigit(), name.zfill(8).lower()))
+
+
+def same_as(conn, kind: str, inputs, meta: dict) -> dict | None:
+    """A snippet not in the bin with the same kind, inputs, title and job number, if there is one."""
+    if not isinstance(inputs, dict):
+        return None
+    title = " ".join(str(meta.get("title") or "").split())
+    job = " ".join(str(meta.get("job_number") or "").split())
     rows = conn.execute(
-        "SELECT DISTINCT press FROM snippet WHERE deleted_at IS NULL AND press <> '' ORDER BY press"
+        "SELECT * FROM snippet WHERE deleted_at IS NULL AND title = ? COLLATE NOCASE AND title = ?"
+        " AND kind = ? AND job_number = ? ORDER BY id LIMIT 50",
+        (title, title, kind, job),
     ).fetchall()
-    return [row["press"] for row in rows]
+    for row in rows:
+        try:
+            if json.loads(row["inputs"]) == inputs:
+                return _row_to_snippet(conn, row)
+        except ValueError:  # pragma: no cover - the store writes JSON only
+            continue
+    return None
 
 
 def in_bin(conn, now: datetime | None = None) -> list[dict]:
