@@ -239,15 +239,16 @@ def _distinct(conn, column: str) -> list[str]:
     scan of every snippet: a shop has a few presses and a million snippets.
     """
     # ``column`` is "press" or "station", never from a request.
-    rows = conn.execute(
-        f"WITH RECURSIVE v(x) AS ("
-        f" SELECT (SELECT min({column}) FROM snippet WHERE deleted_at IS NULL AND {column} > '')"
-        f" UNION ALL"
-        f" SELECT (SELECT min({column}) FROM snippet WHERE deleted_at IS NULL AND {column} > v.x)"
-        f" FROM v WHERE v.x IS NOT NULL"
-        f") SELECT x FROM v WHERE x IS NOT NULL"
-    ).fetchall()
-    return [row[0] for row in rows]
+    found: list[str] = []
+    while True:
+        row = conn.execute(
+            f"SELECT {column} FROM snippet INDEXED BY snippet_live_{column}"
+            f" WHERE deleted_at IS NULL AND {column} > ? ORDER BY {column} LIMIT 1",
+            (found[-1] if found else "",),
+        ).fetchone()
+        if row is None:
+            return found
+        found.append(row[0])
 
 
 def presses(conn) -> list[str]:
