@@ -9,7 +9,8 @@ opens nothing at import time. waitress serves it (see ``webapp.cli``).
 - ``calculators/``: every calculation (registry, API, pages);
 - ``shell/``: unit preference, offline page, service worker;
 - ``snippets/``: saved calculations (pages, API, store, export and import);
-- ``rolls/``: the anilox roll register (pages, API, store, wear, CSV).
+- ``rolls/``: the anilox roll register (pages, API, store, wear, CSV);
+- ``inks/``: the shop's inks and ink sets with their density curves (pages, API, store, CSV).
 """
 
 from __future__ import annotations
@@ -34,7 +35,7 @@ def create_app(test_config: dict | None = None) -> Flask:
         app.config.update(test_config)
     Path(app.config["DATA_DIR"]).mkdir(parents=True, exist_ok=True)
 
-    from webapp import auth, calculators, https, rolls, shell, snippets
+    from webapp import auth, calculators, https, inks, rolls, shell, snippets
     from webapp.common import assets, db, formatting, jsonapi, openapi, security  # noqa: F401 (openapi: its route)
 
     # Plumbing every page shares.
@@ -49,6 +50,7 @@ def create_app(test_config: dict | None = None) -> Flask:
     shell.init_app(app)
     snippets.init_app(app)
     rolls.init_app(app)
+    inks.init_app(app)
     # HTTPS: the phone set-up page, Secure cookies, the plain port behind Caddy.
     https.init_app(app)
     # The JSON API last: every feature has nested its child under it by now.

@@ -147,6 +147,10 @@ def serve_worker(args) -> int:
 
         if rolls_added := roll_demo.fill(data_dir):
             print(f"inkfilm: filled {data_dir} with {rolls_added} anilox rolls of the demo shop", flush=True)
+        from webapp.inks import demo as ink_demo
+
+        if inks_added := ink_demo.fill(data_dir):
+            print(f"inkfilm: filled {data_dir} with {inks_added} inks and their ink sets of the demo shop", flush=True)
     watchdog.start()
     try:
         app = create_app(config)

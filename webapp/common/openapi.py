@@ -9,7 +9,9 @@ Made from what the code checks, so that it cannot drift from it:
 - the snippets endpoints' fields are ``webapp.snippets.api``'s field
   constants, with the lengths of ``webapp.snippets.rules``;
 - the roll register's paths are ``webapp.rolls.openapi.roll_paths()``, from
-  the field dicts of ``webapp.rolls.rules`` and ``webapp.rolls.api``.
+  the field dicts of ``webapp.rolls.rules`` and ``webapp.rolls.api``;
+- the inks' paths are ``webapp.inks.openapi.ink_paths()``, from the field
+  dicts of ``webapp.inks.rules`` and ``webapp.inks.api``.
 
 Every 4xx answer has the one error shape of ``webapp.common.jsonapi``
 (``{"error": {"field", "message"}}``); a stale edit's 409 adds ``current``.
@@ -451,6 +453,9 @@ def description() -> dict:
     from webapp.rolls import openapi as rolls_openapi
 
     paths |= rolls_openapi.roll_paths()
+    from webapp.inks import openapi as inks_openapi
+
+    paths |= inks_openapi.ink_paths()
     paths["/openapi.json"] = {
         "get": {
             "operationId": "openapi",
@@ -498,6 +503,7 @@ def description() -> dict:
                 },
                 "Snippet": SNIPPET,
                 **rolls_openapi.SCHEMAS,
+                **inks_openapi.SCHEMAS,
             }
         },
     }
