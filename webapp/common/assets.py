@@ -56,6 +56,7 @@ def init_app(app) -> None:
     """Versioned static files and compressed text responses."""
     from flask_compress import Compress
 
-    Compress(app)
+    # Exports stream; CSV is compressed on the wire as JSON is.
+    Compress(app).compress_mimetypes_set.add("text/csv")
     app.after_request(prepare_static)
     app.add_template_global(asset)

@@ -16,8 +16,7 @@ from flask import Blueprint, Response, jsonify, request, url_for
 from calc import InputError
 from webapp.auth.gate import api_gate as require
 from webapp.calculators import CALCULATIONS
-from webapp.common import jsontext
-from webapp.common.db import get_db
+from webapp.common.db import database_path, get_db
 from webapp.common.jsonapi import api, check_fields, error_response, request_body
 from webapp.snippets import exchange, store
 from webapp.snippets.rerun import rerun as work_out_again
@@ -145,15 +144,18 @@ def bin_list():
 
 @bp.get("/export")
 def export_json():
-    response = jsonify(exchange.export_all(get_db()))
-    response.headers["Content-Disposition"] = 'attachment; filename="inkfilm-snippets.json"'
-    return response
+    # Streamed from a snapshot of its own; Flask-Compress compresses the stream on the wire.
+    return Response(
+        exchange.export_stream(database_path()),
+        mimetype="application/json",
+        headers={"Content-Disposition": 'attachment; filename="inkfilm-snippets.json"'},
+    )
 
 
 @bp.get("/export.csv")
 def export_csv():
     return Response(
-        exchange.export_csv(get_db()),
+        exchange.export_csv_stream(database_path()),
         mimetype="text/csv",
         headers={"Content-Disposition": 'attachment; filename="inkfilm-snippets.csv"'},
     )
@@ -162,17 +164,12 @@ def export_csv():
 @bp.post("/import")
 def import_snippets():
     require("supervise")
-    return jsonify(exchange.import_all(get_db(), request_body_any()))
-
-
-def request_body_any():
-    """The JSON body, object or list (an import file is either); read once, not kept twice."""
     if not request.is_json:
         raise InputError(None, "the request body must be an inkfilm JSON export (Content-Type: application/json)")
     try:
-        return jsontext.loads(request.get_data(cache=False))
-    except ValueError:
-        raise InputError(None, "the request body must be an inkfilm JSON export") from None
+        return jsonify(exchange.import_stream(get_db(), request.stream))
+    except exchange.NotJSON as exc:
+        raise InputError(None, f"the request body must be an inkfilm JSON export ({exc})") from None
 
 
 # Nested once, at import: under ``/api/v1``, with its error shape and body limit.

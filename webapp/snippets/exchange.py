@@ -1,29 +1,44 @@
 """Export and import of saved snippets: a JSON file that re-imports, and CSV for spreadsheets.
 
-An import takes what an export gives: up to ``MAX_IMPORT`` snippets in a file
-of up to ``MAX_IMPORT_BYTES`` (20,000 twelve-station estimates make about
-91 MB). Every snippet is checked as strictly as a new one before anything is
-written, then all are added in one transaction.
+Both are streams. An export is written a few hundred snippets at a time from one
+read snapshot on its own connection (constant memory at any size; Flask-Compress
+compresses the stream on the wire). An import is parsed as it arrives (ijson, its C
+backend): each snippet is checked as strictly as a new one and added inside one
+transaction, so one bad snippet, anywhere in the file, means none is added. Up to
+``MAX_IMPORT`` snippets in a file of up to ``MAX_IMPORT_BYTES`` (a million
+twelve-station estimates make about 4.5 GB; the shop's usual 10k export about 11 MB);
+a gzip-compressed export (``.json.gz``) imports as well.
 """
 
 from __future__ import annotations
 
+import contextlib
 import csv
+import gzip
 import io
+import itertools
 import json
 import re
+import sqlite3
+from collections.abc import Iterable, Iterator
 from datetime import datetime
+from decimal import Decimal
+
+import ijson
 
 from calc import InputError
 from webapp.calculators import CALCULATIONS
-from webapp.common.db import transaction
+from webapp.common.db import connect, transaction
 from webapp.snippets.rules import check_data, check_kind, check_meta
 from webapp.snippets.store import MAX_VERSION, insert_row, now_text, rows_to_snippets
 
 EXPORT_FORMAT = "inkfilm-snippets"
-MAX_IMPORT = 20_000
+MAX_IMPORT = 2_000_000
 # The body limit of the import (API and page) only; the rest of the app keeps its own.
-MAX_IMPORT_BYTES = 100 * 1024 * 1024
+# The file is parsed as a stream, so this bounds the disk and time an import takes, not memory.
+MAX_IMPORT_BYTES = 8 * 1024**3
+# Snippets read from the file per batch of an export.
+EXPORT_BATCH = 500
 
 
 EXPORT_FIELDS = (
@@ -44,11 +59,43 @@ EXPORT_FIELDS = (
 )
 
 
+def _live_rows(conn) -> Iterator[list]:
+    """Every snippet not in the bin, oldest first, a batch at a time."""
+    cursor = conn.execute("SELECT * FROM snippet WHERE deleted_at IS NULL ORDER BY created_at, id")
+    while rows := cursor.fetchmany(EXPORT_BATCH):
+        yield rows_to_snippets(conn, rows)
+
+
 def export_all(conn, now: datetime | None = None) -> dict:
-    """Every snippet not in the bin, oldest first, as the JSON export file holds them."""
-    rows = conn.execute("SELECT * FROM snippet WHERE deleted_at IS NULL ORDER BY created_at, id").fetchall()
-    snippets = [{name: snippet[name] for name in EXPORT_FIELDS} for snippet in rows_to_snippets(conn, rows)]
+    """Every snippet not in the bin, oldest first, as the JSON export file holds them (in memory:
+    for small stores and tests; the pages and the API send ``export_stream``)."""
+    snippets = [{name: s[name] for name in EXPORT_FIELDS} for batch in _live_rows(conn) for s in batch]
     return {"format": EXPORT_FORMAT, "format_version": 1, "exported_at": now_text(now), "snippets": snippets}
+
+
+@contextlib.contextmanager
+def _reading(path):
+    """A connection of its own on the file at ``path`` holding one read snapshot: a stream outlives
+    the request's connection, and the file it sends is the store at one moment."""
+    with contextlib.closing(connect(path)) as conn:
+        conn.execute("BEGIN")
+        try:
+            yield conn
+        finally:
+            conn.rollback()
+
+
+def export_stream(path, now: datetime | None = None) -> Iterator[str]:
+    """The JSON export of the file at ``path`` (the same file as ``export_all`` gives), in pieces."""
+    with _reading(path) as conn:
+        head = {"format": EXPORT_FORMAT, "format_version": 1, "exported_at": now_text(now)}
+        yield json.dumps(head, ensure_ascii=False)[:-1] + ', "snippets": ['
+        separator = "\n"
+        for batch in _live_rows(conn):
+            pieces = [json.dumps({name: s[name] for name in EXPORT_FIELDS}, ensure_ascii=False) for s in batch]
+            yield separator + ",\n".join(pieces)
+            separator = ",\n"
+        yield "\n]}\n"
 
 
 _FORMULA_START = ("=", "+", "-", "@", "\t", "\r")
@@ -74,7 +121,18 @@ def spreadsheet_safe(text: str) -> str:
 
 
 def export_csv(conn) -> str:
-    """Every snippet not in the bin as CSV, one row each; inputs and results as JSON text.
+    """Every snippet not in the bin as CSV (see ``export_csv_stream``), in memory."""
+    return "".join(_csv_pieces(conn))
+
+
+def export_csv_stream(path) -> Iterator[str]:
+    """Every snippet not in the bin of the file at ``path`` as CSV, in pieces, from one snapshot."""
+    with _reading(path) as conn:
+        yield from _csv_pieces(conn)
+
+
+def _csv_pieces(conn) -> Iterator[str]:
+    """One row per snippet; inputs and results as JSON text.
 
     Every text cell is quoted and made inert (``spreadsheet_safe``); the JSON
     export, not this file, is what imports back.
@@ -82,18 +140,22 @@ def export_csv(conn) -> str:
     out = io.StringIO()
     writer = csv.writer(out, quoting=csv.QUOTE_NONNUMERIC)
     writer.writerow(["id", *EXPORT_FIELDS])
-    rows = conn.execute("SELECT * FROM snippet WHERE deleted_at IS NULL ORDER BY created_at, id").fetchall()
-    for snippet in rows_to_snippets(conn, rows):
-        cells = [snippet["id"]]
-        for name in EXPORT_FIELDS:
-            value = snippet[name]
-            if name == "tags":
-                value = ", ".join(value)
-            elif name in ("inputs", "results"):
-                value = json.dumps(value, ensure_ascii=False)
-            cells.append(spreadsheet_safe(value) if isinstance(value, str) else value)
-        writer.writerow(cells)
-    return out.getvalue()
+    for batch in _live_rows(conn):
+        for snippet in batch:
+            cells = [snippet["id"]]
+            for name in EXPORT_FIELDS:
+                value = snippet[name]
+                if name == "tags":
+                    value = ", ".join(value)
+                elif name in ("inputs", "results"):
+                    value = json.dumps(value, ensure_ascii=False)
+                cells.append(spreadsheet_safe(value) if isinstance(value, str) else value)
+            writer.writerow(cells)
+        yield out.getvalue()
+        out.seek(0)
+        out.truncate()
+    if out.tell():
+        yield out.getvalue()
 
 
 def _check_import_item(item, index: int, calculations: dict) -> dict:
@@ -123,15 +185,15 @@ def _check_import_item(item, index: int, calculations: dict) -> dict:
     return {**meta, **kept, "version": version}
 
 
-def import_all(conn, data, calculations: dict | None = None) -> dict:
-    """Add the snippets of an export file; those already here (same ``uid``) are left as they are.
+class NotJSON(ValueError):
+    """The file is not JSON (or not all of it is); ``str()`` says where it stopped."""
 
-    All or nothing: every snippet is checked first (a uid twice in the file,
-    an unknown kind, inputs or results that could not be kept or shown), and
-    one bad snippet means none is added. Returns the counts
-    ``{"added": n, "already_here": m}``.
+
+def import_all(conn, data, calculations: dict | None = None) -> dict:
+    """Add the snippets of an export file already read (``data``: the export object or its list).
+
+    See ``import_stream`` for what is checked; the counts ``{"added": n, "already_here": m}``.
     """
-    calculations = CALCULATIONS if calculations is None else calculations
     if isinstance(data, dict):
         if data.get("format") not in (None, EXPORT_FORMAT):
             raise InputError("format", "this is not an inkfilm snippets export")
@@ -140,21 +202,164 @@ def import_all(conn, data, calculations: dict | None = None) -> dict:
         items = data
     if not isinstance(items, list):
         raise InputError("snippets", "must be a list of snippets (an inkfilm JSON export)")
-    if len(items) > MAX_IMPORT:
-        raise InputError("snippets", f"at most {MAX_IMPORT:,} snippets in one import (this file has {len(items):,})")
-    first_at: dict[str, int] = {}
-    checked = []
-    for index, item in enumerate(items):
-        row = _check_import_item(item, index, calculations)
-        if row["uid"] in first_at:
-            first = first_at[row["uid"]]
-            raise InputError(f"snippets[{index}].uid", f"repeats the uid of snippets[{first}]: each snippet once")
-        first_at[row["uid"]] = index
-        checked.append(row)
-    del first_at
-    added = 0
+    return _add_all(conn, items, calculations)
+
+
+def import_stream(conn, stream, calculations: dict | None = None) -> dict:
+    """Add the snippets of the export file read from the binary ``stream`` as it arrives.
+
+    The file may be the export object or its bare list, UTF-8 with or without a byte-order
+    mark, plain or gzip-compressed. Snippets already here (same ``uid``) are left as they
+    are. All or nothing: a snippet that could not be saved new (an unknown kind, inputs or
+    results that could not be kept or shown), a uid twice in the file, a file that is not
+    JSON or ends early, and none is added (``InputError`` naming the place, or ``NotJSON``).
+    """
+    return _add_all(conn, _stream_items(_opened(stream)), calculations)
+
+
+def _add_all(conn, items: Iterable, calculations: dict | None) -> dict:
+    calculations = CALCULATIONS if calculations is None else calculations
+    added = count = 0
     with transaction(conn):
-        for row in checked:
-            if insert_row(conn, row).rowcount == 1:
-                added += 1
-    return {"added": added, "already_here": len(checked) - added}
+        # The uids of this file so far, on disk beside the file (a million would not fit in memory
+        # for free); gone with the transaction.
+        conn.execute("CREATE TEMP TABLE import_seen (uid TEXT PRIMARY KEY, at INTEGER NOT NULL)")
+        try:
+            for index, item in enumerate(items):
+                if index >= MAX_IMPORT:
+                    raise InputError("snippets", f"at most {MAX_IMPORT:,} snippets in one import")
+                row = _check_import_item(item, index, calculations)
+                try:
+                    conn.execute("INSERT INTO temp.import_seen VALUES (?, ?)", (row["uid"], index))
+                except sqlite3.IntegrityError:
+                    first = conn.execute("SELECT at FROM temp.import_seen WHERE uid = ?", (row["uid"],)).fetchone()[0]
+                    raise InputError(
+                        f"snippets[{index}].uid", f"repeats the uid of snippets[{first}]: each snippet once"
+                    ) from None
+                if insert_row(conn, row).rowcount == 1:
+                    added += 1
+                count = index + 1
+        finally:
+            conn.execute("DROP TABLE temp.import_seen")
+    return {"added": added, "already_here": count - added}
+
+
+class _Reader(io.RawIOBase):
+    """``stream`` read again from the start after ``head`` was taken off it, stopping at ``limit`` bytes."""
+
+    def __init__(self, head: bytes, stream, limit: int):
+        self.head, self.stream, self.left = head, stream, limit
+
+    def readable(self) -> bool:
+        return True
+
+    def readinto(self, buffer) -> int:
+        if self.head:
+            data, self.head = self.head[: len(buffer)], self.head[len(buffer) :]
+        else:
+            data = self.stream.read(len(buffer))
+        self.left -= len(data)
+        if self.left < 0:
+            raise InputError(None, f"the file is larger than {MAX_IMPORT_BYTES // 1024**3} GiB an import may be")
+        buffer[: len(data)] = data
+        return len(data)
+
+
+def _opened(stream):
+    """The export's text bytes: a gzip file opened, a byte-order mark dropped, the size bounded."""
+    head = stream.read(2)
+    if head == b"\x1f\x8b":
+        stream = gzip.GzipFile(fileobj=io.BufferedReader(_Reader(head, stream, MAX_IMPORT_BYTES)))
+        head = stream.read(2)
+    head += stream.read(1)
+    if head.startswith(b"\xef\xbb\xbf"):
+        head = head[3:]
+    return io.BufferedReader(_Reader(head, stream, MAX_IMPORT_BYTES), buffer_size=64 * 1024)
+
+
+def _stream_items(source) -> Iterator:
+    """The snippets of an export file, one at a time, from the ijson events of ``source``."""
+    place = _Place()
+    events = _events(source, place)
+    try:
+        first = next(events)
+    except StopIteration:
+        raise NotJSON("the file is empty") from None
+    events = itertools.chain([first], events)
+    if first[1] == "start_array":
+        place.top = "item"
+        yield from map(_floats, ijson.items(events, "item"))
+        return
+    if first[1] != "start_map":
+        raise InputError("snippets", "must be a list of snippets (an inkfilm JSON export)")
+    place.top = "snippets.item"
+    found = []
+
+    def checked(events):
+        for prefix, event, value in events:
+            if prefix == "format" and (event != "string" or value != EXPORT_FORMAT) and event != "null":
+                raise InputError("format", "this is not an inkfilm snippets export")
+            if prefix == "snippets" and not found:
+                if event != "start_array":
+                    raise InputError("snippets", "must be a list of snippets (an inkfilm JSON export)")
+                found.append(True)
+            yield prefix, event, value
+
+    yield from map(_floats, ijson.items(checked(events), "snippets.item"))
+    if not found:
+        raise InputError("snippets", "must be a list of snippets (an inkfilm JSON export)")
+
+
+class _Place:
+    """Where the parse is: the snippet's number and the last key, to name the place of an error."""
+
+    top = ""
+    index = -1
+    prefix = ""
+    key = ""
+
+    def field(self) -> str | None:
+        if not self.top or self.index < 0 or not self.prefix.startswith(self.top):
+            return None
+        rest = [part for part in self.prefix[len(self.top) :].split(".") if part and part != "item"]
+        return ".".join([f"snippets[{self.index}]", *rest, *([self.key] if self.key else [])])
+
+
+def _events(source, place: _Place) -> Iterator:
+    """ijson's parse events (numbers other than whole ones as ``Decimal``, so that ``1e400`` is
+    read and then refused by the checks as any infinite number is); a parse error (not JSON,
+    cut short, not UTF-8, a bad gzip file) as an ``InputError`` naming the snippet and key it
+    stopped at, or ``NotJSON`` before the first snippet."""
+    events = ijson.parse(source)
+    while True:
+        try:
+            event = next(events)
+        except StopIteration:
+            return
+        except (ijson.JSONError, UnicodeDecodeError, EOFError, OSError) as exc:
+            reason = str(exc).splitlines()[0].strip() if str(exc).strip() else "the file ends early"
+            field = place.field()
+            if field is None:
+                raise NotJSON(reason) from None
+            raise InputError(field, f"is not JSON an export gives ({reason}); nothing was imported") from None
+        prefix, kind, value = event
+        if place.top and prefix == place.top and kind == "start_map":
+            place.index += 1
+        place.prefix, place.key = prefix, (value if kind == "map_key" else "")
+        yield event
+
+
+def _floats(item):
+    """``item`` with every ``Decimal`` as the float ``json.loads`` would give (walked without recursion)."""
+    if isinstance(item, Decimal):
+        return float(item)
+    stack = [item]
+    while stack:
+        value = stack.pop()
+        pairs = value.items() if isinstance(value, dict) else enumerate(value) if isinstance(value, list) else ()
+        for key, inner in pairs:
+            if isinstance(inner, Decimal):
+                value[key] = float(inner)
+            elif isinstance(inner, dict | list):
+                stack.append(inner)
+    return item
