@@ -186,13 +186,14 @@ def rows(count: int, rng: random.Random, made: dict, start: datetime):
         )
 
 
-def fill(data_dir: Path, count: int, seed: int = 16, quiet: bool = False) -> Path:
-    """``count`` snippets added to the file in ``data_dir`` (created and migrated first)."""
+def fill(data_dir: Path, count: int, seed: int = 16, quiet: bool = False, per_kind: int = 200) -> Path:
+    """``count`` snippets added to the file in ``data_dir`` (created and migrated first), their
+    inputs drawn from ``per_kind`` calculations worked out per kind (fewer: faster, for tests)."""
     rng = random.Random(seed)
     data_dir.mkdir(parents=True, exist_ok=True)
     path = data_dir / db.FILENAME
     db.migrate(path)
-    made = templates(rng)
+    made = templates(rng, per_kind)
     began = time.perf_counter()
     with contextlib.closing(db.connect(path)) as conn:
         conn.execute("PRAGMA synchronous = OFF")
