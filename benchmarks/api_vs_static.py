@@ -57,12 +57,15 @@ def start_and_time(data_dir: str) -> tuple[subprocess.Popen, int, float]:
     return process, port, time.perf_counter() - began
 
 
-def drive(port: int, method: str, path: str, body: bytes | None, connections: int, seconds: float) -> dict:
-    """``connections`` threads, each on one keep-alive connection, for ``seconds``."""
+def drive(
+    port: int, method: str, path: str, body: bytes | None, connections: int, seconds: float, extra: dict | None = None
+) -> dict:
+    """``connections`` threads, each on one keep-alive connection, for ``seconds`` (``extra``: more headers)."""
     latencies: list[list[float]] = [[] for _ in range(connections)]
     failures = [0] * connections
     stop_at = time.perf_counter() + seconds
     headers = {"Content-Type": "application/json", "Accept-Encoding": "gzip"} if body else {"Accept-Encoding": "gzip"}
+    headers |= extra or {}
 
     def worker(index: int) -> None:
         connection = http.client.HTTPConnection("127.0.0.1", port, timeout=10)

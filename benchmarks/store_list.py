@@ -60,7 +60,7 @@ PAGES = [
     "/snippets?sort=title",
     "/snippets?sort=job",
     "/snippets?page=3",
-    "/snippets?since=2024-03-01&until=2024-03-31",
+    "/snippets?from=2024-03-01&to=2024-03-31",
 ]
 
 

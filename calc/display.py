@@ -21,7 +21,7 @@ from dataclasses import dataclass
 from decimal import ROUND_HALF_UP, Decimal
 
 from calc.steps import Count, Money
-from calc.units import Q_  # noqa: F401 (Q_ for the doctests)
+from calc.units import Q_, magnitude_in  # noqa: F401 (Q_ for the doctests)
 
 SIGNIFICANT = 3
 
@@ -46,6 +46,8 @@ UNIT_LABELS = {
     "ft2": "ft²",
     "MSI": "MSI",
     "in2": "in²",
+    "cm2": "cm²",
+    "mm2": "mm²",
     "l": "l",
     "ml": "ml",
     "gal": "US gal",
@@ -135,7 +137,7 @@ def show(quantity, spelling: str, significant: int = SIGNIFICANT) -> Shown:
     >>> str(show(Q_(4.5, "BCM/in2"), "cm3/m2"))
     '6.98 cm³/m²'
     """
-    value = float(quantity.to(spelling).magnitude)
+    value = float(magnitude_in(quantity, spelling))
     return Shown(format_number(value, significant), unit_label(spelling), value, spelling)
 
 

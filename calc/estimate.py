@@ -24,6 +24,7 @@ from __future__ import annotations
 import math
 from dataclasses import dataclass, field
 
+from calc import practice
 from calc.errors import InputError
 from calc.film import parse_anilox_volume
 from calc.steps import Count, Money, Step, Working
@@ -40,12 +41,17 @@ from calc.units import (
     parse_density,
     parse_quantity,
     require_dimension,
+    ureg,
 )
 
+# The units the formulas are written in, parsed once: a twelve-station job makes several hundred
+# quantities, and pint parses a unit given as text afresh each time (benchmarks/estimate_12_stations.py).
+UNIT = {name: ureg.Unit(name) for name in ("kg", "kg/l", "km", "l", "m", "m2", "m2/kg", "um", "cm3/m2")}
+
 MAX_STATIONS = 12
-WEB_WIDTH_HIGH = Q_(10.0, "m")  # the widest presses are under 3 m; 10 m catches unit slips
-REPEAT_HIGH = Q_(5.0, "m")
-RUN_LENGTH_HIGH = Q_(10_000.0, "km")
+WEB_WIDTH_HIGH = Q_(10.0, UNIT["m"])  # the widest presses are under 3 m; 10 m catches unit slips
+REPEAT_HIGH = Q_(5.0, UNIT["m"])
+RUN_LENGTH_HIGH = Q_(10_000.0, UNIT["km"])
 IMPRESSIONS_HIGH = 1_000_000_000
 NAME_MAX = 60
 
@@ -53,26 +59,20 @@ NAME_MAX = 60
 # make-ready takes tens to a few hundred metres of web; labels across and around
 # stay in the tens; a chamber, pump and hoses hold a few litres, an open pan some
 # more; a shop's stock of one ink is drums, not tankers.
-MAKEREADY_HIGH = Q_(100.0, "km")
+MAKEREADY_HIGH = Q_(100.0, UNIT["km"])
 LABELS_HIGH = 1_000_000_000_000
 ACROSS_AROUND_HIGH = 1000
-LABEL_AREA_HIGH = Q_(1.0, "m2")
-FILL_MASS_HIGH = Q_(1000.0, "kg")
-FILL_VOLUME_HIGH = Q_(1000.0, "l")
-ON_HAND_MASS_HIGH = Q_(100_000.0, "kg")
-ON_HAND_VOLUME_HIGH = Q_(100_000.0, "l")
+LABEL_AREA_HIGH = Q_(1.0, UNIT["m2"])
+FILL_MASS_HIGH = Q_(1000.0, UNIT["kg"])
+FILL_VOLUME_HIGH = Q_(1000.0, UNIT["l"])
+ON_HAND_MASS_HIGH = Q_(100_000.0, UNIT["kg"])
+ON_HAND_VOLUME_HIGH = Q_(100_000.0, UNIT["l"])
 
 # The avoirdupois pound, exactly (NIST SP 811, Appendix B).
 KG_PER_LB = 0.45359237
 
-# Rough coverages by kind of artwork, for a page to offer as a starting point
-# (common practice, from memory; not a measurement: measure the artwork where it matters).
-TYPICAL_COVERAGES = {
-    "light text": 0.10,
-    "medium": 0.30,
-    "heavy": 0.60,
-    "solid": 1.00,
-}
+# Rough coverages by kind of artwork live with the other common-practice values.
+TYPICAL_COVERAGES = practice.TYPICAL_COVERAGES
 
 
 @dataclass(frozen=True)
@@ -214,9 +214,9 @@ def _mass_or_volume(text, field, mass_high, volume_high, what):
     """Ink given as a mass or a volume, from 0 up to a bound; returns the Quantity."""
     value = parse_quantity(text, field)
     if value.dimensionality == MASS:
-        check_range(value, Q_(0.0, "kg"), mass_high, field, what, low_inclusive=True)
+        check_range(value, Q_(0.0, UNIT["kg"]), mass_high, field, what, low_inclusive=True)
     elif value.dimensionality == VOLUME:
-        check_range(value, Q_(0.0, "l"), volume_high, field, what, low_inclusive=True)
+        check_range(value, Q_(0.0, UNIT["l"]), volume_high, field, what, low_inclusive=True)
     else:
         raise InputError(
             field,
@@ -246,7 +246,7 @@ def run_length_from_impressions(impressions, repeat):
     if n != math.floor(n) or n < 1 or n > IMPRESSIONS_HIGH:
         raise InputError("impressions", f"must be a whole number from 1 to {IMPRESSIONS_HIGH:,}")
     r = _length(repeat, "repeat", REPEAT_HIGH, "the repeat", "18 in or 457 mm")
-    return Q_(n * r.to("m").magnitude, "m")
+    return Q_(n * r.to(UNIT["m"]).magnitude, UNIT["m"])
 
 
 def impressions_for_labels(labels, across, around) -> int:
@@ -392,12 +392,12 @@ def job_ink(
         a, b = _across_around(across, around, count)
     if not isinstance(stations, list | tuple) or not 1 <= len(stations) <= MAX_STATIONS:
         raise InputError("stations", f"a job needs from 1 to {MAX_STATIONS} stations")
-    mr = Q_(0.0, "m") if makeready is None else _makeready(makeready)
+    mr = Q_(0.0, UNIT["m"]) if makeready is None else _makeready(makeready)
 
-    width_m = width.to("m").magnitude
-    length_m = length.to("m").magnitude
+    width_m = width.to(UNIT["m"]).magnitude
+    length_m = length.to(UNIT["m"]).magnitude
     area_m2 = width_m * length_m
-    area = work.add("Printed area", "A", "A = W × L", {"W": width, "L": length}, Q_(area_m2, "m2"))
+    area = work.add("Printed area", "A", "A = W × L", {"W": width, "L": length}, Q_(area_m2, UNIT["m2"]))
     if a is not None and count is not None:
         n_labels = work.add(
             "Labels the good run prints",
@@ -406,14 +406,14 @@ def job_ink(
             {"n": count, "a": Count(a), "b": Count(b)},
             Count(count * a * b),
         )
-    makeready_m = mr.to("m").magnitude
+    makeready_m = mr.to(UNIT["m"]).magnitude
     printed_m = length_m * (1.0 + waste) + makeready_m
     printed = work.add(
         "Web printed (good run, waste, make-ready)",
         "L_p",
         "L_p = L × (1 + waste) + L_mr",
         {"L": length, "waste": waste, "L_mr": mr},
-        Q_(printed_m, "m"),
+        Q_(printed_m, UNIT["m"]),
     )
     run = _Run(
         width=width,
@@ -425,7 +425,7 @@ def job_ink(
         printed_m=printed_m,
         printed=printed,
         repeat=r,
-        repeat_m=None if r is None else r.to("m").magnitude,
+        repeat_m=None if r is None else r.to(UNIT["m"]).magnitude,
         impressions=None if count is None else int(count),
         across=a,
         around=b,
@@ -448,7 +448,7 @@ def job_ink(
         "Σm_pull",
         "Σm_pull = Σ(m_ink + m_fill)",
         {f"m_pull,{i + 1}": s.pull_mass for i, s in enumerate(results)},
-        Q_(math.fsum(s.pull_mass.magnitude for s in results), "kg"),
+        Q_(math.fsum(s.pull_mass.magnitude for s in results), UNIT["kg"]),
     )
     per_impressions = per_labels = None
     if total_cost is not None and run.impressions is not None:
@@ -473,16 +473,16 @@ def job_ink(
         )
     return JobEstimate(
         printed_area=area,
-        run_length=length.to("m"),
+        run_length=length.to(UNIT["m"]),
         waste=waste,
         stations=results,
-        total_ink_mass=Q_(total_mass, "kg"),
-        total_ink_volume=Q_(total_volume, "l"),
+        total_ink_mass=Q_(total_mass, UNIT["kg"]),
+        total_ink_volume=Q_(total_volume, UNIT["l"]),
         total_cost=total_cost,
         steps=work.steps,
-        makeready=mr.to("m"),
+        makeready=mr.to(UNIT["m"]),
         printed_length=printed,
-        repeat=None if r is None else r.to("m"),
+        repeat=None if r is None else r.to(UNIT["m"]),
         impressions=run.impressions,
         across=a,
         around=b,
@@ -519,14 +519,14 @@ def _coverage_from_label_area(station: Station, run: _Run, work: Working) -> flo
         raise InputError(field, "give either the coverage or the inked area per label, not both")
     area = parse_quantity(station.inked_area_per_label, field)
     require_dimension(area, AREA, field, "an area", "12 cm2 or 1.9 in2")
-    check_range(area, Q_(0.0, "m2"), LABEL_AREA_HIGH, field, "the inked area per label", low_inclusive=True)
+    check_range(area, Q_(0.0, UNIT["m2"]), LABEL_AREA_HIGH, field, "the inked area per label", low_inclusive=True)
     if run.repeat_m is None or run.across is None:
         raise InputError(
             field,
             "needs the job's repeat and its labels across and around: give the run as impressions or labels, "
             "or give this station a coverage instead",
         )
-    share = area.to("m2").magnitude * run.across * run.around / (run.width_m * run.repeat_m)
+    share = area.to(UNIT["m2"]).magnitude * run.across * run.around / (run.width_m * run.repeat_m)
     if share > 1.0:
         raise InputError(
             field,
@@ -571,24 +571,28 @@ def _station_ink(station: Station, run: _Run) -> StationEstimate:
     )
     if coverage is None:
         coverage = _coverage_from_label_area(station, run, work)
-    rho = density.to("kg/l").magnitude
+    rho = density.to(UNIT["kg/l"]).magnitude
 
-    t2_um = volume.to("cm3/m2").magnitude * transfer
-    t2 = work.add("Wet film on the substrate", "t₂", "t₂ = V_a × T", {"V_a": volume, "T": transfer}, Q_(t2_um, "um"))
+    t2_um = volume.to(UNIT["cm3/m2"]).magnitude * transfer
+    t2 = work.add(
+        "Wet film on the substrate", "t₂", "t₂ = V_a × T", {"V_a": volume, "T": transfer}, Q_(t2_um, UNIT["um"])
+    )
     # t [µm] × A [m²] = cm³; / 1000 = litres
     if run.makeready_m == 0.0:
         # the previous release's formula and order of operations, so that its answers stay the same
         area_m2 = run.area_m2
         litres = t2_um * area_m2 * coverage * (1.0 + run.waste) / 1000.0
         formula = "V_ink = t₂ × A × c × (1 + waste)"
-        inputs = {"t₂": t2, "A": Q_(area_m2, "m2"), "c": coverage, "waste": run.waste}
+        inputs = {"t₂": t2, "A": Q_(area_m2, UNIT["m2"]), "c": coverage, "waste": run.waste}
     else:
         litres = t2_um * run.width_m * run.printed_m * coverage / 1000.0
         formula = "V_ink = t₂ × W × L_p × c"
         inputs = {"t₂": t2, "W": run.width, "L_p": run.printed, "c": coverage}
-    ink_volume = work.add("Ink volume", "V_ink", formula, inputs, Q_(litres, "l"))
+    ink_volume = work.add("Ink volume", "V_ink", formula, inputs, Q_(litres, UNIT["l"]))
     kg = litres * rho
-    ink_mass = work.add("Ink mass", "m_ink", "m_ink = V_ink × ρ", {"V_ink": ink_volume, "ρ": density}, Q_(kg, "kg"))
+    ink_mass = work.add(
+        "Ink mass", "m_ink", "m_ink = V_ink × ρ", {"V_ink": ink_volume, "ρ": density}, Q_(kg, UNIT["kg"])
+    )
     if station.price_per_lb is not None:
         price = float(
             work.add(
@@ -615,25 +619,29 @@ def _station_ink(station: Station, run: _Run) -> StationEstimate:
     if t2_um > 0.0:
         # 1 / (µm × kg/l) = 1 / (g/m²) = 1000 m²/kg
         mileage = work.add(
-            "Ink mileage", "M", "M = 1 / (t₂ × ρ)", {"t₂": t2, "ρ": density}, Q_(1000.0 / (t2_um * rho), "m2/kg")
+            "Ink mileage", "M", "M = 1 / (t₂ × ρ)", {"t₂": t2, "ρ": density}, Q_(1000.0 / (t2_um * rho), UNIT["m2/kg"])
         )
     fill_kg = 0.0
-    fill_mass = Q_(0.0, "kg")
+    fill_mass = Q_(0.0, UNIT["kg"])
     if fill is not None and fill.dimensionality == VOLUME:
-        fill_kg = fill.to("l").magnitude * rho
+        fill_kg = fill.to(UNIT["l"]).magnitude * rho
         fill_mass = work.add(
-            "System fill as mass", "m_fill", "m_fill = V_fill × ρ", {"V_fill": fill, "ρ": density}, Q_(fill_kg, "kg")
+            "System fill as mass",
+            "m_fill",
+            "m_fill = V_fill × ρ",
+            {"V_fill": fill, "ρ": density},
+            Q_(fill_kg, UNIT["kg"]),
         )
     elif fill is not None:
-        fill_kg = fill.to("kg").magnitude
-        fill_mass = Q_(fill_kg, "kg")
+        fill_kg = fill.to(UNIT["kg"]).magnitude
+        fill_mass = Q_(fill_kg, UNIT["kg"])
     pull_kg = kg + fill_kg
     pull_mass = work.add(
         "Ink to pull (used, and the system fill)",
         "m_pull",
         "m_pull = m_ink + m_fill",
         {"m_ink": ink_mass, "m_fill": fill_mass},
-        Q_(pull_kg, "kg"),
+        Q_(pull_kg, UNIT["kg"]),
     )
 
     estimate = StationEstimate(
@@ -665,7 +673,7 @@ def _per_thousand(estimate: StationEstimate, run: _Run, work: Working) -> None:
             f"q_{symbol}",
             f"q_{symbol} = m_ink × 1000 / {symbol}",
             {"m_ink": estimate.ink_mass, symbol: Count(count)},
-            Q_(kg * 1000.0 / count, "kg"),
+            Q_(kg * 1000.0 / count, UNIT["kg"]),
         )
         setattr(estimate, f"ink_per_1000_{what}", q)
         if estimate.cost is not None:
@@ -682,13 +690,13 @@ def _per_thousand(estimate: StationEstimate, run: _Run, work: Working) -> None:
 def _on_hand(estimate: StationEstimate, on_hand, run: _Run, work: Working, kg_per_m2: float, density) -> None:
     """What the ink on hand covers: enough or short, and the good run it prints."""
     if on_hand.dimensionality == VOLUME:
-        oh_kg = on_hand.to("l").magnitude * density.to("kg/l").magnitude
+        oh_kg = on_hand.to(UNIT["l"]).magnitude * density.to(UNIT["kg/l"]).magnitude
         oh_mass = work.add(
-            "Ink on hand as mass", "m_oh", "m_oh = V_oh × ρ", {"V_oh": on_hand, "ρ": density}, Q_(oh_kg, "kg")
+            "Ink on hand as mass", "m_oh", "m_oh = V_oh × ρ", {"V_oh": on_hand, "ρ": density}, Q_(oh_kg, UNIT["kg"])
         )
     else:
-        oh_kg = on_hand.to("kg").magnitude
-        oh_mass = Q_(oh_kg, "kg")
+        oh_kg = on_hand.to(UNIT["kg"]).magnitude
+        oh_mass = Q_(oh_kg, UNIT["kg"])
     estimate.on_hand_mass = oh_mass
     pull_kg = estimate.pull_mass.magnitude
     short_kg = pull_kg - oh_kg
@@ -700,7 +708,7 @@ def _on_hand(estimate: StationEstimate, on_hand, run: _Run, work: Working, kg_pe
         "s",
         "s = max(0, m_pull − m_oh)",
         {"m_pull": estimate.pull_mass, "m_oh": oh_mass},
-        Q_(0.0 if enough else short_kg, "kg"),
+        Q_(0.0 if enough else short_kg, UNIT["kg"]),
     )
     fill_kg = estimate.fill_mass.magnitude
     kg_per_m = kg_per_m2 * run.width_m  # ink used per metre of web printed: t₂ × W × c × ρ
@@ -721,10 +729,10 @@ def _on_hand(estimate: StationEstimate, on_hand, run: _Run, work: Working, kg_pe
             "W": run.width,
             "c": estimate.coverage,
             "ρ": density,
-            "L_mr": Q_(run.makeready_m, "m"),
+            "L_mr": Q_(run.makeready_m, UNIT["m"]),
             "waste": run.waste,
         },
-        Q_(good_m, "m"),
+        Q_(good_m, UNIT["m"]),
     )
     impressions = labels = None
     if run.repeat_m is not None:

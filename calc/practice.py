@@ -124,3 +124,20 @@ WEAR_AUDIT_DAYS = 90
 # certificate volume (else its nominal) is off spec: new rolls are commonly
 # within about ±10 % (REFERENCES.md).
 WEAR_OFF_SPEC = 0.10
+
+# --- Job ink estimates (calc.estimate and the Job ink page) -------------------------
+# Rough coverages by kind of artwork, for the page to offer as a starting point
+# (common practice, from memory; not a measurement: measure the artwork, or give
+# the inked area per label, where it matters). The order is the order offered.
+TYPICAL_COVERAGES = {
+    "light text": 0.10,
+    "medium": 0.30,
+    "heavy": 0.60,
+    "solid": 1.00,
+}
+
+# Press-ready ink densities (common practice, from memory; the ink's data sheet
+# gives its own): most water and solvent inks about 0.9–1.1 g/cm³; opaque whites,
+# heavy with titanium dioxide, about 1.3–1.5 g/cm³.
+INK_DENSITY_TYPICAL = Range(Q_(0.9, "g/cm3"), Q_(1.1, "g/cm3"))
+WHITE_DENSITY_TYPICAL = Range(Q_(1.3, "g/cm3"), Q_(1.5, "g/cm3"))

@@ -36,6 +36,8 @@ to :data:`MAX_MAGNITUDE` can overflow. Anything else is an
 from __future__ import annotations
 
 import math
+import os
+import pickle
 import re
 from functools import lru_cache
 from pathlib import Path
@@ -72,6 +74,7 @@ _WORD_SUBSTITUTIONS = [
 ]
 
 
+@lru_cache(maxsize=4096)
 def _normalise(text: str) -> str:
     """The everyday spellings above rewritten as pint reads them (also pint's preprocessor).
 
@@ -83,9 +86,169 @@ def _normalise(text: str) -> str:
     return text
 
 
-ureg = pint.UnitRegistry(preprocessors=[_normalise], autoconvert_offset_to_baseunit=False)
-ureg.load_definitions(Path(__file__).with_name("trade_units.txt"))
+def cache_folder(kind: str) -> Path | None:
+    """inkfilm's folder for ``kind`` of remembered work (pint's definitions, compressed static files).
+
+    ``INKFILM_CACHE_DIR`` if set, else ``$XDG_CACHE_HOME/inkfilm`` or
+    ``~/.cache/inkfilm``; made on first use, readable by its owner only. None
+    when it cannot be made (a read-only home): then nothing is remembered
+    between starts, and nothing else changes.
+    """
+    base = os.environ.get("INKFILM_CACHE_DIR")
+    if not base:
+        xdg = os.environ.get("XDG_CACHE_HOME")
+        base = os.path.join(xdg, "inkfilm") if xdg and os.path.isabs(xdg) else os.path.join("~", ".cache", "inkfilm")
+    folder = Path(base).expanduser() / kind
+    try:
+        folder.mkdir(parents=True, exist_ok=True, mode=0o700)
+        if not os.access(folder, os.W_OK | os.X_OK):
+            return None
+    except OSError:
+        return None
+    return folder
+
+
+def _build_registry() -> pint.UnitRegistry:
+    """pint's registry with the trade units; pint keeps its parsed definition files in the cache folder.
+
+    pint's own definition cache (``cache_folder``) holds the parsed files keyed
+    on their content, so a start after the first skips most of the ~0.5 s of
+    reading them; the registry is the same either way
+    (``tests/calc/test_units_cache.py``).
+    """
+    folder = cache_folder("pint")
+    try:
+        registry = pint.UnitRegistry(
+            preprocessors=[_normalise], autoconvert_offset_to_baseunit=False, cache_folder=folder
+        )
+        registry.load_definitions(TRADE_UNITS)
+    except (OSError, EOFError, ValueError, pickle.UnpicklingError):
+        # A cache file another process is writing, or a damaged one: read the files afresh.
+        registry = pint.UnitRegistry(preprocessors=[_normalise], autoconvert_offset_to_baseunit=False)
+        registry.load_definitions(TRADE_UNITS)
+    return registry
+
+
+TRADE_UNITS = Path(__file__).with_name("trade_units.txt")
+ureg = _build_registry()
 Q_ = ureg.Quantity
+
+# --- Remembered answers of the registry -----------------------------------------
+# Once the trade units are loaded the registry never changes, so what it makes of
+# a unit spelling or a unit name is the same on every call. pint itself keeps
+# only some of these (single unit names), and works the rest out again on every
+# ``Q_(x, "um")``, ``.to("kg/l")`` and ``f"{q:~P}"``: most of a calculation's
+# time. These caches hold the answers (strings, immutable units and unit
+# containers) keyed on the text pint was given; spellings from outside still
+# pass the guard of ``parse_unit`` first, and every cache is bounded.
+REGISTRY_CACHE_SIZE = 4096
+_REMEMBERED = ("parse_units", "parse_units_as_container", "get_name", "get_symbol")
+for _method in _REMEMBERED:
+    setattr(ureg, _method, lru_cache(maxsize=REGISTRY_CACHE_SIZE)(getattr(ureg, _method)))
+
+_pint_convert = ureg.convert
+
+
+def _offset_free(units) -> bool:
+    """No unit with an offset (degC) in ``units``: pint's test before it converts by a factor alone."""
+    try:
+        return ureg._validate_and_extract(units) is None
+    except (ValueError, pint.errors.UndefinedUnitError):
+        return False
+
+
+# Conversion factors between pairs of multiplicative units, as pint works them out.
+_FACTORS: dict = {}
+
+
+def _convert(value, src, dst, inplace=False, **ctx_kwargs):
+    """pint's ``convert`` (behind every ``Quantity.to``), by a remembered factor where that is all it does.
+
+    For a float between two units without offset (every unit of the core but
+    the temperatures), with no context, pint multiplies the value by the
+    factor between the units (``PlainRegistry._convert``); this does that same
+    multiplication, so the numbers are identical, without pint's dispatch
+    through its facets on every call. Anything else goes to pint.
+    """
+    if (
+        ctx_kwargs
+        or inplace
+        or type(value) is not float
+        or type(src) is not pint.util.UnitsContainer
+        or type(dst) is not pint.util.UnitsContainer
+    ):
+        return _pint_convert(value, src, dst, inplace, **ctx_kwargs)
+    factor = _FACTORS.get((src, dst))
+    if factor is None:
+        if src == dst:
+            return value
+        if ureg._active_ctx or not (_offset_free(src) and _offset_free(dst)):
+            return _pint_convert(value, src, dst, inplace, **ctx_kwargs)
+        factor = ureg._get_conversion_factor(src, dst)
+        if not isinstance(factor, float):  # a DimensionalityError to raise, or an exact factor
+            return _pint_convert(value, src, dst, inplace, **ctx_kwargs)
+        if len(_FACTORS) < REGISTRY_CACHE_SIZE:
+            _FACTORS[(src, dst)] = factor
+    return value * factor
+
+
+ureg.convert = _convert
+
+
+_pint_new = Q_.__new__
+
+
+def _new_quantity(cls, value, units=None):
+    """``Q_(value, units)`` for a plain number and a unit spelling or container, as pint makes it.
+
+    pint's constructor checks for arrays, dask and other wrapped types on every
+    call; for a float or int with a unit spelling of the code (or a unit pint
+    already parsed) it then keeps the number as it is and the parsed unit. This
+    does only that (the same two attributes); anything else goes to pint.
+    """
+    kind = type(value)
+    if cls is Q_ and (kind is float or kind is int) and units is not None:
+        unit_kind = type(units)
+        if unit_kind is str:
+            units = ureg.parse_units(units)._units
+        elif unit_kind is not pint.util.UnitsContainer:
+            return _pint_new(cls, value, units)
+        quantity = object.__new__(cls)
+        quantity._magnitude = value
+        quantity._units = units
+        return quantity
+    return _pint_new(cls, value, units)
+
+
+Q_.__new__ = staticmethod(_new_quantity)
+
+
+@lru_cache(maxsize=REGISTRY_CACHE_SIZE)
+def _units_of(unit) -> pint.util.UnitsContainer:
+    return pint.util.to_units_container(unit, ureg)
+
+
+def magnitude_in(quantity, unit) -> float:
+    """``quantity.to(unit).magnitude`` (the same number), without making a Quantity on the way.
+
+    ``unit`` is a fixed spelling of the code (``"um"``, ``"kg/l"``) or a unit
+    :func:`parse_unit` read, never text from outside.
+
+    >>> magnitude_in(Q_(1.0, "BCM/in2"), "cm3/m2") == Q_(1.0, "BCM/in2").to("cm3/m2").magnitude
+    True
+    """
+    return ureg.convert(quantity._magnitude, quantity._units, _units_of(unit))
+
+
+@lru_cache(maxsize=REGISTRY_CACHE_SIZE)
+def _label(units: pint.util.UnitsContainer) -> str:
+    return f"{ureg.Unit(units):~P}"
+
+
+def unit_label(quantity) -> str:
+    """``f"{quantity.units:~P}"`` (pint's short pretty label, e.g. ``"µm"``), worked out once per unit."""
+    return _label(quantity._units)
+
 
 # --- Plain names for dimensions ---------------------------------------------
 
@@ -350,8 +513,8 @@ def require_dimension(quantity, dimensionality, field: str | None, what: str, ex
 def check_range(quantity, low, high, field: str | None, what: str, *, low_inclusive: bool = False):
     """Check ``low < quantity <= high`` (quantities); the message quotes the range in ``high``'s unit."""
     unit = high.units
-    value = quantity.to(unit).magnitude
-    low_value = low.to(unit).magnitude
+    value = magnitude_in(quantity, unit)
+    low_value = magnitude_in(low, unit)
     too_low = value < low_value if low_inclusive else value <= low_value
     if too_low or value > high.magnitude:
         bound = "at least" if low_inclusive else "more than"

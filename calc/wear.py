@@ -34,7 +34,7 @@ from dataclasses import dataclass
 from datetime import date, datetime, timedelta
 
 from calc.errors import InputError
-from calc.film import parse_anilox_volume
+from calc.film import ANILOX_VOLUME_HIGH, parse_anilox_volume
 from calc.practice import (
     WEAR_AUDIT_DAYS,
     WEAR_CLEAN_BELOW,
@@ -56,6 +56,11 @@ LATEST = date(2200, 12, 31)
 # The forecast reaches this far ahead at most; beyond it the answer is "not in sight".
 FORECAST_YEARS = 100
 NOT_ENOUGH = "not enough measurements"
+BCM_PER_IN2 = Q_(1.0, "BCM/in2").units
+_QUANTITY = type(Q_(1.0, "BCM/in2"))
+_HIGH_BCM = ANILOX_VOLUME_HIGH.to("BCM/in2").magnitude
+# The units messages may state volumes in, and their labels (pint converts: 1 BCM/in² ≈ 1.55 cm³/m²).
+MESSAGE_UNITS = {"BCM/in2": "BCM/in²", "cm3/m2": "cm³/m²"}
 
 
 def parse_day(value, field: str | None) -> date:
@@ -199,8 +204,34 @@ def _reading(item, index: int, engraved_on: date, today: date) -> Reading:
         raise InputError(f"{where}.measured_on", f"is before the roll was engraved ({engraved_on.isoformat()})")
     if day > today:
         raise InputError(f"{where}.measured_on", "is in the future")
-    bcm = parse_anilox_volume(volume, f"{where}.volume").to("BCM/in2").magnitude
-    return Reading(day, Q_(bcm, "BCM/in2"), parse_condition(condition, f"{where}.condition"))
+    bcm = _checked_bcm(volume, f"{where}.volume")
+    return Reading(day, Q_(bcm, BCM_PER_IN2), parse_condition(condition, f"{where}.condition"))
+
+
+def _checked_bcm(volume, field: str) -> float:
+    """A reading's volume in BCM/in², checked as ``parse_anilox_volume`` checks it.
+
+    A stored register holds hundreds of readings per roll, already in BCM/in²:
+    those in range are read as plain floats (pint's conversions were most of a
+    wear picture's time); anything else goes through the full check and its message.
+    """
+    if isinstance(volume, _QUANTITY) and volume.units == BCM_PER_IN2:
+        bcm = float(volume.magnitude)
+        if 0 < bcm <= _HIGH_BCM:
+            return bcm
+    return parse_anilox_volume(volume, field).to(BCM_PER_IN2).magnitude
+
+
+def _sayer(unit: str):
+    """``say(bcm)``: a volume in BCM/in² as a message states it in ``unit``."""
+    if unit not in MESSAGE_UNITS:
+        raise InputError("message_unit", "must be BCM/in2 or cm3/m2")
+    factor, label = Q_(1.0, "BCM/in2").to(unit).magnitude, MESSAGE_UNITS[unit]
+
+    def say(bcm: float, spec: str = ".3g") -> str:
+        return f"{bcm * factor:{spec}} {label}"
+
+    return say
 
 
 def _bcm(q) -> float:
@@ -232,6 +263,7 @@ def wear_picture(
     clean_below: float = WEAR_CLEAN_BELOW,
     audit_days: int = WEAR_AUDIT_DAYS,
     off_spec: float = WEAR_OFF_SPEC,
+    message_unit: str = "BCM/in2",
 ) -> WearPicture:
     """How a roll is wearing: its wear line, plugging, forecast and flags.
 
@@ -265,6 +297,9 @@ def wear_picture(
         when the first reading is more than 10 % from V₀.
     audit_days : int
         Measure when the latest reading is older than this (90 days).
+    message_unit : str
+        ``'BCM/in2'`` or ``'cm3/m2'``: the unit the messages (flags,
+        certainty) state volumes in; the numbers returned stay in BCM/in².
 
     Returns
     -------
@@ -298,6 +333,7 @@ def wear_picture(
     (datetime.date(2024, 1, 1), [])
     """
     today = today or date.today()
+    say = _sayer(message_unit)
     nominal = _bcm(parse_anilox_volume(nominal_volume, "nominal_volume"))
     start = parse_day(engraved_on, "engraved_on")
     if start > today:
@@ -324,7 +360,7 @@ def wear_picture(
         slope, intercept, stderr = least_squares(points)
         line = WearLine(start, intercept, slope)
     if stderr is not None:
-        certainty = f"± {stderr:.2g} BCM/in² per year (standard error, {len(points)} points)"
+        certainty = f"± {say(stderr, '.2g')} per year (standard error, {len(points)} points)"
     else:
         certainty = NOT_ENOUGH
 
@@ -344,15 +380,15 @@ def wear_picture(
         flags.append(
             Flag(
                 "replace",
-                f"its wear line is at {line_today:.3g} BCM/in² today, at or below "
-                f"the {replace_at:.0%} of nominal ({threshold:.3g} BCM/in²) set for replacement",
+                f"its wear line is at {say(line_today)} today, at or below "
+                f"the {replace_at:.0%} of nominal ({say(threshold)}) set for replacement",
             )
         )
     elif after and _bcm(after[-1].volume) <= threshold:
         flags.append(
             Flag(
                 "replace",
-                f"it read {_bcm(after[-1].volume):.3g} BCM/in² after cleaning on "
+                f"it read {say(_bcm(after[-1].volume))} after cleaning on "
                 f"{after[-1].on.isoformat()}, at or below {replace_at:.0%} of nominal",
             )
         )
@@ -363,9 +399,9 @@ def wear_picture(
             flags.append(
                 Flag(
                     "off_spec",
-                    f"its first measurement ({first:.3g} BCM/in², {readings[0].on.isoformat()}) "
+                    f"its first measurement ({say(first)}, {readings[0].on.isoformat()}) "
                     f"is {abs(first - v0) / v0:.0%} from its {basis} volume "
-                    f"({v0:.3g} BCM/in²); more than ±{off_spec:.0%}",
+                    f"({say(v0)}); more than ±{off_spec:.0%}",
                 )
             )
     # A cleaning on the day of an after-cleaning reading is the one that reading followed.
@@ -378,7 +414,7 @@ def wear_picture(
             flags.append(
                 Flag(
                     "clean",
-                    f"it read {volume:.3g} BCM/in² as found on {latest.on.isoformat()}, "
+                    f"it read {say(volume)} as found on {latest.on.isoformat()}, "
                     f"{plugging:.0%} below its wear line: the cells are likely plugged",
                 )
             )
@@ -386,8 +422,8 @@ def wear_picture(
             flags.append(
                 Flag(
                     "clean",
-                    f"it read {volume:.3g} BCM/in² as found on {latest.on.isoformat()}, "
-                    f"under {clean_below:.0%} of nominal ({clean_below * nominal:.3g} BCM/in²)",
+                    f"it read {say(volume)} as found on {latest.on.isoformat()}, "
+                    f"under {clean_below:.0%} of nominal ({say(clean_below * nominal)})",
                 )
             )
     if latest is None:

@@ -16,12 +16,18 @@ import urllib.request
 from pathlib import Path
 
 import pytest
+from hypothesis import settings
 
 from webapp import create_app
 
 ROOT = Path(__file__).resolve().parent.parent
 CHROMIUM = os.environ.get("INKFILM_CHROMIUM", "/usr/bin/chromium")
 SCREENSHOTS = ROOT / "tests" / "screenshots"
+
+# Speed is measured by the scripts in benchmarks/, not by timed tests: Hypothesis's per-example deadline
+# (200 ms) only fails a property test when the machine is busy, so it is off.
+settings.register_profile("inkfilm", deadline=None)
+settings.load_profile("inkfilm")
 
 
 @pytest.fixture

@@ -18,24 +18,34 @@ from __future__ import annotations
 import os
 import sqlite3
 from pathlib import Path
+from typing import TYPE_CHECKING
 
-from flask import Flask, Response, jsonify, request
-from werkzeug.exceptions import HTTPException
+if TYPE_CHECKING:
+    from flask import Flask
 
 
 def create_app(test_config: dict | None = None) -> Flask:
+    # Flask is imported here, not with the package: ``inkfilm serve``'s supervisor
+    # (``webapp.cli``, ``webapp.watchdog``) never builds an app and starts faster without it.
+    from flask import Flask, Response, jsonify, request
+    from werkzeug.exceptions import HTTPException
+
     app = Flask(__name__)
     app.config.from_mapping(
         DATA_DIR=os.environ.get("INKFILM_DATA_DIR", str(Path.cwd() / "inkfilm-data")),
         # The JSON API takes bodies up to 64 KB (webapp.common.jsonapi); this is the
         # app-wide ceiling, for uploads such as an import file.
         MAX_CONTENT_LENGTH=8 * 1024 * 1024,
+        # The shop's currency symbol beside every cost (``inkfilm serve --currency``); none by default.
+        CURRENCY="",
+        # The shop's time zone for every time shown (``Europe/Berlin``); empty: the server's own.
+        TIME_ZONE=os.environ.get("INKFILM_TIME_ZONE", ""),
     )
     if test_config:
         app.config.update(test_config)
     Path(app.config["DATA_DIR"]).mkdir(parents=True, exist_ok=True)
 
-    from webapp import auth, calculators, https, inks, rolls, shell, snippets
+    from webapp import auth, calculators, https, inks, outbox, rolls, shell, snippets
     from webapp.common import assets, db, formatting, jsonapi, openapi, security  # noqa: F401 (openapi: its route)
 
     # Plumbing every page shares.
@@ -49,6 +59,7 @@ def create_app(test_config: dict | None = None) -> Flask:
     calculators.init_app(app)
     shell.init_app(app)
     snippets.init_app(app)
+    outbox.init_app(app)  # saves that waited on a phone: its page and token
     rolls.init_app(app)
     inks.init_app(app)
     # HTTPS: the phone set-up page, Secure cookies, the plain port behind Caddy.
@@ -89,7 +100,9 @@ def create_app(test_config: dict | None = None) -> Flask:
     return app
 
 
-def _plain_http_message(exc: HTTPException) -> str:
+def _plain_http_message(exc) -> str:
+    from flask import request
+
     messages = {
         404: "there is no such address in the inkfilm API",
         405: f"this address does not take {request.method} requests",

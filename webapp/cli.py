@@ -52,6 +52,13 @@ def build_parser() -> argparse.ArgumentParser:
         default=DEFAULT_DATA,
         help=f"folder for inkfilm's data, created if missing (default ./{DEFAULT_DATA}, with --demo ./{DEMO_DATA})",
     )
+    serve.add_argument(
+        "--time-zone",
+        metavar="ZONE",
+        default=os.environ.get("INKFILM_TIME_ZONE", ""),
+        help="the shop's time zone for the times shown, e.g. Europe/Berlin (default the server's own; "
+        "or set INKFILM_TIME_ZONE)",
+    )
     serve.add_argument("--threads", type=int, default=8, help="worker threads (default 8)")
     serve.add_argument(
         "--demo",
@@ -68,6 +75,12 @@ def build_parser() -> argparse.ArgumentParser:
         "--supervisor-passcode",
         metavar="PASSCODE",
         help="passcode for deleting, the bin and import (or set INKFILM_SUPERVISOR_PASSCODE)",
+    )
+    serve.add_argument(
+        "--currency",
+        metavar="SYMBOL",
+        help="the shop's currency symbol or code, shown beside every cost, e.g. € or $ or CHF "
+        "(or set INKFILM_CURRENCY; default none: costs are in the currency of the prices typed)",
     )
     # The supervisor runs the server itself as a child with this flag (see webapp.watchdog).
     serve.add_argument("--worker", action="store_true", help=argparse.SUPPRESS)
@@ -106,7 +119,25 @@ def serve_worker(args) -> int:
     if problem:
         print(f"inkfilm: {problem}; give a --data-dir the server may write to", file=sys.stderr)
         return 2
-    config = {"DATA_DIR": str(data_dir), "DEMO": args.demo}
+    # The server's remembered work (pint's definitions, compressed static files) stays
+    # in its data folder like everything else it writes, unless INKFILM_CACHE_DIR says where.
+    # Set before calc.units is first imported (create_app imports it).
+    os.environ.setdefault("INKFILM_CACHE_DIR", str(data_dir / "cache"))
+    config = {"DATA_DIR": str(data_dir), "DEMO": args.demo, "TIME_ZONE": args.time_zone}
+    from webapp.common.formatting import check_currency, shop_zone
+
+    try:
+        config["CURRENCY"] = check_currency(
+            args.currency if args.currency is not None else os.environ.get("INKFILM_CURRENCY", "")
+        )
+    except ValueError as exc:
+        print(f"inkfilm: --currency: {exc}", file=sys.stderr)
+        return 2
+    try:
+        shop_zone(args.time_zone)
+    except ValueError as exc:
+        print(f"inkfilm: --time-zone {str(exc).partition(': ')[2]}", file=sys.stderr)
+        return 2
     shop = args.shop_passcode or os.environ.get("INKFILM_SHOP_PASSCODE")
     supervisor = args.supervisor_passcode or os.environ.get("INKFILM_SUPERVISOR_PASSCODE")
     front = None

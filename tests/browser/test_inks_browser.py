@@ -105,3 +105,36 @@ def test_picking_an_ink_in_the_film_chain_fills_its_fields_and_shows_its_caution
     expect(page.locator('[name="solids_by_volume"][form="film-form"]')).to_have_value("30")
     assert page.evaluate("document.documentElement.scrollWidth") <= PHONE["width"]
     page.locator("#film-settings").screenshot(path=str(screenshots / "inks-film-pick-phone.png"))
+
+
+def test_picking_an_ink_for_an_estimate_station_fills_its_density_and_price_and_shows_its_caution(
+    open_context, screenshots
+):
+    page = open_context(PHONE).new_page()
+    response = page.request.post(
+        "/api/v1/inks",
+        data={
+            "name": "Station pick orange UV",
+            "type": "uv",
+            "density": "1.12 g/cm3",
+            "price": 14.5,
+            "price_per": "kg",
+        },
+    )
+    assert response.status == 201
+    page.goto("/estimate")
+    total = page.locator('[data-key="total_mass"]')
+    before = total.inner_text()
+    station = page.locator("fieldset.station").nth(1)
+    station.get_by_label("Ink from the shop's list").select_option(
+        label="Station pick orange UV (UV — skin/eye sensitiser)"
+    )
+    expect(station.locator('[name="stations[1].ink_density"]')).to_have_value("1.12")
+    expect(station.locator('[name="stations[1].ink_density_unit"]')).to_have_value("g/cm3")
+    expect(station.locator('[name="stations[1].price_per_kg"]')).to_have_value("14.5")
+    expect(station.locator(".ink-caution:visible")).to_contain_text("UV ink can sensitise skin")
+    # only this station's caution shows; the others' picks are untouched
+    expect(page.locator("fieldset.station").nth(0).locator(".ink-caution:visible")).to_have_count(0)
+    expect(total).not_to_have_text(before)  # the totals are worked out again with the ink's density
+    assert page.evaluate("document.documentElement.scrollWidth") <= PHONE["width"]
+    station.screenshot(path=str(screenshots / "inks-estimate-pick-phone.png"))

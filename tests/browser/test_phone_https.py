@@ -102,6 +102,23 @@ def test_a_phone_by_name_gets_the_service_worker_installs_and_opens_offline(brow
         assert errors == [], errors  # installable
         page.screenshot(path=str(screenshots / "phone-app-https.png"), full_page=True)
 
+        # Out of reach at this name over HTTPS: the answer is worked out on the phone, a save waits
+        # in the outbox and is sent once when the network is back.
+        page.get_by_label("Value").fill("7")  # an answer from the server, with a save button
+        expect(page.locator('[data-group="film_thickness"]')).to_contain_text("7")
+        page.wait_for_function("() => window.inkfilmOutboxReady === true")
+        context.set_offline(True)
+        page.get_by_label("Value").fill("4.5 BCM/in2")
+        expect(page.locator(".offline-note")).to_be_visible()
+        expect(page.locator('[data-group="volume_per_area"]')).to_contain_text("6.98")
+        page.get_by_role("button", name="Save this…").click()
+        expect(page.locator("#outbox-link")).to_have_text("waiting to be saved (1)")
+        page.screenshot(path=str(screenshots / "phone-https-offline-save.png"), full_page=True)
+        context.set_offline(False)
+        expect(page.locator("#outbox-link")).to_be_hidden(timeout=20_000)
+        kept = page.evaluate("async () => (await (await fetch('/api/v1/snippets')).json()).snippets")
+        assert [(s["kind"], s["inputs"]["quantity"]) for s in kept] == [("equivalents", "4.5 BCM/in2")]
+
         # The server goes away; the app shell still opens.
         assert server.stop() == 0
         assert caddy_processes(server.data_dir) == []

@@ -54,7 +54,7 @@ def test_save_find_share_and_edit_on_two_phones(open_context, screenshots):
     operator.screenshot(path=str(screenshots / "snippet-list-phone.png"), full_page=True)
     result.click()
     expect(operator.get_by_text("Results as saved")).to_be_visible()
-    operator.get_by_role("link", name="Re-run with today's core").click()
+    operator.get_by_role("link", name="Work it out again with today's version").click()
     expect(operator.get_by_text("the same results")).to_be_visible()
     qr = operator.get_by_role("img", name="QR code of the link")
     expect(qr).to_be_visible()
@@ -73,14 +73,16 @@ def test_save_find_share_and_edit_on_two_phones(open_context, screenshots):
     supervisor.get_by_role("link", name="Edit").click()
     operator.get_by_label("Notes").fill("Blade changed at 14:00.")
     operator.get_by_role("button", name="Save changes").click()
-    expect(operator.get_by_text("Changes saved.")).to_be_visible()
+    expect(operator.get_by_text("Changes saved (version 2).")).to_be_visible()
 
     supervisor.get_by_label("Notes").fill("Keep for the reorder in spring.")
     supervisor.get_by_role("button", name="Save changes").click()
-    conflict = supervisor.get_by_role("alert").filter(has_text="Changed by someone else meanwhile")
+    conflict = supervisor.get_by_role("alert").filter(has_text="changed this snippet while you were editing")
     expect(conflict).to_be_visible()
     expect(conflict).to_contain_text("Blade changed at 14:00.")
-    expect(supervisor.get_by_label("Notes")).to_have_value("Keep for the reorder in spring.")
+    # Both changed the notes: the supervisor's words wait as "Yours", beside theirs, for a choice.
+    expect(supervisor.get_by_role("radio", name="Yours")).to_be_visible()
+    expect(supervisor.locator("#choose-notes")).to_contain_text("Keep for the reorder in spring.")
     no_sideways_scroll(supervisor)
     supervisor.screenshot(path=str(screenshots / "snippet-conflict-phone.png"), full_page=True)
 

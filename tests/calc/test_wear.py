@@ -225,6 +225,29 @@ def test_metric_volumes_are_read_and_answered_in_bcm():
     assert picture.percent_of_nominal == pytest.approx(100.0, rel=1e-6)
 
 
+def test_messages_state_volumes_in_the_unit_asked_for_and_the_numbers_stay_in_bcm():
+    # 1 BCM/in² = 1.5500031 cm³/m² (exact from the inch, NIST SP 811): 3.3 BCM/in² read 5.12 cm³/m².
+    readings = falling_series() + [(on(2 * DAYS_PER_YEAR + 5), "3.3 BCM/in2", "as_found")]
+    args = ("4.0 BCM/in2", ENGRAVED, readings)
+    bcm = wear_picture(*args, today=on(2 * DAYS_PER_YEAR + 10))
+    metric = wear_picture(*args, today=on(2 * DAYS_PER_YEAR + 10), message_unit="cm3/m2")
+    assert [f.code for f in metric.flags] == [f.code for f in bcm.flags] == ["clean"]
+    assert "3.3 BCM/in²" in bcm.flags[0].message
+    assert "5.12 cm³/m²" in metric.flags[0].message and "BCM" not in metric.flags[0].message
+    assert "cm³/m² per year" in metric.certainty
+    assert metric.slope_per_year == bcm.slope_per_year and metric.plugging == bcm.plugging
+    with pytest.raises(InputError) as caught:
+        wear_picture(*args, message_unit="ml")
+    assert caught.value.field == "message_unit"
+
+
+def test_a_stored_reading_out_of_range_still_gets_the_full_check():
+    for volume in (Q_(0.0, "BCM/in2"), Q_(101.0, "BCM/in2"), Q_(float("nan"), "BCM/in2")):
+        with pytest.raises(InputError) as caught:
+            wear_picture("4 BCM/in2", ENGRAVED, [(on(5), volume, "as_found")], today=on(6))
+        assert caught.value.field == "measurements[0].volume"
+
+
 @pytest.mark.parametrize(
     ("kwargs", "field"),
     [

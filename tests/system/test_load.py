@@ -1,11 +1,14 @@
-"""Load: 32 clients save, edit and list snippets at once for 30 s against one waitress server on loopback.
+"""Load: 32 clients save, edit and list snippets and log roll measurements at once for 30 s against one
+waitress server on loopback.
 
 Run twice in one test: with no passcodes, then with the shop and supervisor
 passcodes set and every API write sending the shop one in ``X-Inkfilm-Passcode`` (a right passcode is
 verified by scrypt once, then found in the keyed cache: the second run should
-keep within 1.5x of the first's requests a second). No answer may be a 5xx;
-afterwards every acknowledged snippet is there exactly once with every
-acknowledged edit (its version counts them). The figures (requests, p50 and p99
+keep within 1.5x of the first's requests a second). Each client also logs a
+measurement on its own roll of the register every round and reads the roll
+(its wear picture) every fourth. No answer may be a 5xx; afterwards every
+acknowledged snippet is there exactly once with every acknowledged edit (its
+version counts them), and every acknowledged measurement exactly once on its roll. The figures (requests, p50 and p99
 latency) and the ratio are printed and written to tests/screenshots/load-test.txt.
 ``INKFILM_LOAD_SECONDS`` shortens or lengthens each run.
 """
@@ -41,8 +44,10 @@ TARGET_RATIO = 1.5
 class Client(threading.Thread):
     """Saves a snippet, edits one of its own, lists by its own tag; round and round."""
 
-    def __init__(self, base: str, name: str, deadline: float, passcode: str | None = None):
+    def __init__(self, base: str, name: str, deadline: float, passcode: str | None = None, roll: int = 0):
         super().__init__(daemon=True)
+        self.roll = roll
+        self.measured: dict[int, str] = {}  # measurement id -> its method text
         self.passcode = passcode
         host, port = base.removeprefix("http://").split(":")
         self.address = (host, int(port))
@@ -98,6 +103,26 @@ class Client(threading.Thread):
                 status, listing = self.call(conn, "GET", f"/api/v1/snippets?q={self.name_tag}&limit=20")
                 if status != 200:
                     self.failures.append(f"list {status}")
+                method = f"{self.name_tag} reading {number}"
+                status, entry = self.call(
+                    conn,
+                    "POST",
+                    f"/api/v1/rolls/{self.roll}/measurements",
+                    {
+                        "measured_on": f"2024-{1 + number % 12:02d}-{1 + number % 28:02d}",
+                        "volume": f"{1.9 + (number % 40) / 200:.3f} BCM/in2",
+                        "condition": "after_cleaning" if number % 4 == 3 else "as_found",
+                        "method": method,
+                    },
+                )
+                if status == 201:
+                    self.measured[entry["id"]] = method
+                else:
+                    self.failures.append(f"measure {status}")
+                if number % 4 == 0:
+                    status, roll = self.call(conn, "GET", f"/api/v1/rolls/{self.roll}")
+                    if status != 200 or roll["wear"]["latest"] is None:
+                        self.failures.append(f"read roll {status}")
                 number += 1
         except (OSError, http.client.HTTPException) as exc:
             self.failures.append(f"connection: {exc!r}")
@@ -105,13 +130,41 @@ class Client(threading.Thread):
             conn.close()
 
 
-def run_load(data, *server_args: str, passcode: str | None = None) -> dict:
+def add_rolls(base: str, supervisor: str | None) -> list[int]:
+    """One roll of the register per client (adding a roll needs the supervisor passcode when one is set)."""
+    host, port = base.removeprefix("http://").split(":")
+    conn = http.client.HTTPConnection(host, int(port), timeout=30)
+    headers = {"Content-Type": "application/json"}
+    if supervisor:
+        headers["X-Inkfilm-Passcode"] = supervisor
+    rolls = []
+    try:
+        for n in range(CLIENTS):
+            body = {
+                "roll_id": f"LOAD-{n:02d}",
+                "screen": "700 lpi",
+                "angle": 60,
+                "nominal_volume": "2.1 BCM/in2",
+                "engraved_on": "2021-03-01",
+            }
+            conn.request("POST", "/api/v1/rolls", json.dumps(body), headers)
+            response = conn.getresponse()
+            answer = json.loads(response.read())
+            assert response.status == 201, answer
+            rolls.append(answer["id"])
+    finally:
+        conn.close()
+    return rolls
+
+
+def run_load(data, *server_args: str, passcode: str | None = None, supervisor: str | None = None) -> dict:
     """32 clients against a fresh server on ``data`` for ``SECONDS``; the figures, after checking the data."""
     process, base = start_server(data, *server_args)
     reader = drain(process)
     try:
+        rolls = add_rolls(base, supervisor)
         deadline = time.monotonic() + SECONDS
-        clients = [Client(base, f"client{n:02d}", deadline, passcode) for n in range(CLIENTS)]
+        clients = [Client(base, f"client{n:02d}", deadline, passcode, rolls[n]) for n in range(CLIENTS)]
         started = time.monotonic()
         for client in clients:
             client.start()
@@ -134,11 +187,13 @@ def run_load(data, *server_args: str, passcode: str | None = None) -> dict:
     p99 = latencies[int(0.99 * (len(latencies) - 1))] * 1000
     created = sum(len(client.mine) for client in clients)
     edits = sum(info["version"] - 1 for client in clients for info in client.mine.values())
+    measurements = sum(len(client.measured) for client in clients)
     rate = len(latencies) / elapsed
     label = "both passcodes set, the shop one on every write" if passcode else "no passcodes"
     figures = (
         f"load test ({label}): {CLIENTS} clients for {elapsed:.1f} s, {len(latencies)} requests "
-        f"({rate:.0f}/s; {created} saves, {edits} edits, the rest lists), "
+        f"({rate:.0f}/s; {created} saves, {edits} edits, {measurements} measurements logged, the rest lists "
+        "and roll reads), "
         f"p50 {p50:.0f} ms, p99 {p99:.0f} ms, max {latencies[-1] * 1000:.0f} ms, "
         f"statuses {dict(sorted(statuses.items()))}, 5xx: {server_errors}"
     )
@@ -150,17 +205,23 @@ def run_load(data, *server_args: str, passcode: str | None = None) -> dict:
     with contextlib.closing(sqlite3.connect(data / db.FILENAME)) as conn:
         assert conn.execute("PRAGMA integrity_check").fetchone()[0] == "ok"
         rows = {row[0]: row[1:] for row in conn.execute("SELECT id, title, version FROM snippet")}
+        logged = {row[0]: row[1:] for row in conn.execute("SELECT id, roll, method FROM roll_measurement")}
     assert len(rows) == created, "snippets lost or added twice"
     for client in clients:
         for snippet_id, info in client.mine.items():
             assert rows[snippet_id] == (info["title"], info["version"])
+    assert len(logged) == measurements, "measurements lost or logged twice"
+    for client in clients:
+        for entry, method in client.measured.items():
+            assert logged[entry] == (client.roll, method)
+    assert measurements > CLIENTS, figures
     return {"rate": rate, "figures": figures}
 
 
 def test_32_clients_for_30_seconds_with_and_without_the_shop_passcode(tmp_path, capsys):
     plain = run_load(tmp_path / "plain")
     both = ("--shop-passcode", SHOP, "--supervisor-passcode", SUPERVISOR)
-    locked = run_load(tmp_path / "locked", *both, passcode=SHOP)
+    locked = run_load(tmp_path / "locked", *both, passcode=SHOP, supervisor=SUPERVISOR)
     ratio = plain["rate"] / locked["rate"]
     summary = (
         f"requests/s: {plain['rate']:.0f} without passcodes, {locked['rate']:.0f} with the shop passcode on writes "

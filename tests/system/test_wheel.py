@@ -4,11 +4,14 @@ styled page."""
 
 from __future__ import annotations
 
+import os
+import re
 import shutil
 import subprocess
 import sys
 import sysconfig
 import textwrap
+import zipfile
 from pathlib import Path
 
 import pytest
@@ -55,9 +58,30 @@ def test_an_installed_wheel_serves_a_styled_page(tmp_path):
             response = client.get(url)
             assert response.status_code == 200 and len(response.get_data()) > 100, url
         css = client.get(sheet).get_data(as_text=True)
+        # Offline working: the phone's script (minified with rjsmin) and the outbox's code, lazily named.
+        worker = client.get("/sw.js").get_data(as_text=True)
+        offline = re.search(r'importScripts\\("(/offline-calc\\.js\\?v=[0-9a-f]+)"\\)', worker).group(1)
+        assert "self.inkfilmOfflineData=" in client.get(offline).get_data(as_text=True)
+        for url in re.search(r'data-scripts="([^"]+)"', page).group(1).split(" "):
+            assert client.get(url).status_code == 200, url
+        # Compressed once into a fresh cache folder, from the installed package's files.
+        squeezed = client.get(sheet, headers={"Accept-Encoding": "br"})
+        assert squeezed.headers["Content-Encoding"] == "br", squeezed.headers
+        assert "immutable" in squeezed.headers["Cache-Control"]
+        import os, pathlib
+        assert any((pathlib.Path(os.environ["INKFILM_CACHE_DIR"]) / "static").glob("*/css/inkfilm.css.br"))
+        from webapp.common import db
+        assert db.SCHEMA_VERSION == int(sys.argv[1]), db.SCHEMA_VERSION
         print("ok", len(page), len(css))
         """
     )
-    result = subprocess.run([python, "-c", script], cwd=tmp_path, capture_output=True, text=True, timeout=120)
+    from webapp.common import db
+
+    # Every migration is in the wheel; its dependencies (rjsmin for the phone's script) are declared.
+    metadata = zipfile.ZipFile(wheel).read(next(n for n in zipfile.ZipFile(wheel).namelist() if n.endswith("METADATA")))
+    assert re.search(rb"^Requires-Dist: rjsmin", metadata, re.M)
+    command = [python, "-c", script, str(db.SCHEMA_VERSION)]
+    env = {**os.environ, "INKFILM_CACHE_DIR": str(tmp_path / "cache")}
+    result = subprocess.run(command, cwd=tmp_path, env=env, capture_output=True, text=True, timeout=120)
     assert result.returncode == 0, result.stderr
     assert result.stdout.startswith("ok ")

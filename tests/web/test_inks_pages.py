@@ -323,7 +323,7 @@ def test_the_import_page_lists_each_problem_by_row_and_imports_nothing(client, a
 
 def test_migration_adds_the_ink_tables_to_a_file_of_the_previous_version(tmp_path):
     path = tmp_path / db.FILENAME
-    previous = db.SCHEMA_VERSION - 1
+    previous = db.version_before("inks")
     with contextlib.closing(sqlite3.connect(path)) as old:
         for number in range(previous):
             for statement in db._statements(db.MIGRATIONS[number]):

@@ -5,6 +5,8 @@ from __future__ import annotations
 
 import hashlib
 
+import pytest
+
 from webapp.common import db
 
 # sha256 of each shipped migration file, byte for byte.
@@ -21,9 +23,24 @@ def test_shipped_migrations_are_unchanged():
 
 def test_migrations_are_numbered_from_one_without_gaps():
     names = sorted(path.name for path in db.MIGRATIONS_DIR.glob("*.sql"))
-    numbers = [int(name[:4]) for name in names]
-    expected = [n for n in range(1, db.SCHEMA_VERSION + 1) if n not in db.RESERVED_MIGRATIONS or n in numbers]
-    assert numbers == expected
-    assert len(db.MIGRATIONS) == db.SCHEMA_VERSION == numbers[-1]
-    # a reserved number left free runs as an empty step, nothing else does
-    assert all((script == "") == (n not in numbers) for n, script in enumerate(db.MIGRATIONS, start=1))
+    assert [int(name[:4]) for name in names] == list(range(1, len(names) + 1))
+    assert len(db.MIGRATIONS) == db.SCHEMA_VERSION == len(names)
+
+
+def test_a_file_out_of_sequence_is_refused(tmp_path, monkeypatch):
+    for name in db.MIGRATIONS_DIR.glob("*.sql"):
+        (tmp_path / name.name).write_bytes(name.read_bytes())
+    monkeypatch.setattr(db, "MIGRATIONS_DIR", tmp_path)
+    assert len(db._load_migrations()) == db.SCHEMA_VERSION
+    stray = tmp_path / f"{db.SCHEMA_VERSION + 2:04d}_stray.sql"
+    stray.write_text("SELECT 1;", encoding="utf-8")
+    with pytest.raises(RuntimeError, match="out of sequence"):
+        db._load_migrations()
+
+
+def test_the_version_before_a_migration_is_found_by_its_name():
+    names = sorted(path.name for path in db.MIGRATIONS_DIR.glob("*.sql"))
+    for index, name in enumerate(names):
+        assert db.version_before(name[5:-4]) == index
+    with pytest.raises(KeyError):
+        db.version_before("no_such_migration")

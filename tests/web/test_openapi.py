@@ -126,7 +126,8 @@ def test_the_snippet_fields_are_the_api_s_constants(document):
     assert set(create["properties"]) == {"kind", "inputs", "title"} | snippets_api.CREATE_OPTIONAL
     assert sorted(create["properties"]["kind"]["enum"]) == sorted(KINDS)
     update = document["paths"]["/snippets/{snippet_id}"]["put"]["requestBody"]["content"]["application/json"]
-    assert set(update["schema"]["properties"]) == {"version", "rerun"} | snippets_api.UPDATE_FIELDS
+    expected = {"version", "rerun", snippets_api.CHANGED_BY} | snippets_api.UPDATE_FIELDS
+    assert set(update["schema"]["properties"]) == expected
 
 
 def test_refusals_are_described_with_the_error_shape(document):

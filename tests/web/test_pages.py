@@ -52,7 +52,17 @@ def test_no_inline_script_style_or_handler(client, path):
     assert re.findall(r"https?://", body) == []  # no other origin
 
 
-@pytest.mark.parametrize("path", ["/", "/film", "/api/v1/film", "/static/css/inkfilm.css", "/sw.js"])
+def test_static_files_carry_a_policy_that_allows_them_nothing(client):
+    # Static files run and load nothing: a locked-down policy, without the document headers' weight.
+    for path in ["/static/css/inkfilm.css", "/static/icons/inkfilm.svg", "/static/vendor/htmx-2.0.11.min.js"]:
+        with client.get(path) as response:
+            assert response.status_code == 200
+            csp = response.headers["Content-Security-Policy"]
+            assert "default-src 'none'" in csp and "frame-ancestors 'none'" in csp and "script-src" not in csp
+            assert response.headers["X-Content-Type-Options"] == "nosniff"
+
+
+@pytest.mark.parametrize("path", ["/", "/film", "/api/v1/film", "/sw.js"])
 def test_security_headers(client, path):
     response = client.get(path) if not path.startswith("/api") else client.post(path, json={})
     response.close()

@@ -328,3 +328,30 @@ def test_an_id_beyond_sqlite_s_integers_is_not_found(client, big):
     assert_error(client.patch(f"{URL}/{big}", json={"version": 1, "press": "N1"}), 404, "id")
     assert_error(client.post(f"{URL}/{big}/cleanings", json={"cleaned_on": days_ago(1)}), 404, "id")
     assert client.get(f"{URL}/{roll}").get_json()["press"] == "N2"
+
+
+def test_the_shop_sets_its_own_wear_thresholds_from_the_environment(tmp_path, monkeypatch):
+    from webapp.rolls import wear_from_environment
+
+    # 1.62 of 1.8 BCM/in² after cleaning is 90 % of nominal: fine at the usual 85 %, due at the shop's 92 %.
+    app = create_app({"TESTING": True, "DATA_DIR": str(tmp_path / "usual")})
+    client = app.test_client()
+    roll = add_roll(client)
+    measure(client, roll["id"], 10, "1.62 BCM/in2")
+    assert "replace" not in client.get(f"{URL}/{roll['id']}").get_json()["wear"]["flags"]
+
+    monkeypatch.setenv("INKFILM_WEAR_REPLACE_AT", "92 %")
+    monkeypatch.setenv("INKFILM_WEAR_AUDIT_DAYS", "5")
+    app = create_app({"TESTING": True, "DATA_DIR": str(tmp_path / "own")})
+    assert app.config["ROLL_WEAR"] == {"replace_at": pytest.approx(0.92), "audit_days": 5}
+    client = app.test_client()
+    roll = add_roll(client)
+    measure(client, roll["id"], 10, "1.62 BCM/in2")
+    assert client.get(f"{URL}/{roll['id']}").get_json()["wear"]["flags"] == ["replace", "measure"]
+
+    for variable, text in [("INKFILM_WEAR_CLEAN_BELOW", "ninety"), ("INKFILM_WEAR_OFF_SPEC", "1.5")]:
+        with pytest.raises(SystemExit, match=variable):
+            wear_from_environment({variable: text})
+    with pytest.raises(SystemExit, match="INKFILM_WEAR_AUDIT_DAYS"):
+        wear_from_environment({"INKFILM_WEAR_AUDIT_DAYS": "0"})
+    assert wear_from_environment({"INKFILM_WEAR_CLEAN_PLUGGING": "0.12"}) == {"clean_plugging": 0.12}

@@ -215,3 +215,37 @@ def test_without_passcodes_a_passcode_sent_anyway_is_not_in_the_way(client):
 def test_rerun_in_an_update_must_be_true_or_false(client):
     snippet = new(client)
     assert_error(client.put(f"{URL}/{snippet['id']}", json={"version": 1, "rerun": "yes"}), 400, "rerun")
+
+
+def test_who_changed_deleted_and_restored_is_taken_from_the_request(client):
+    snippet = new(client, saved_by="Ada")
+    url = f"{URL}/{snippet['id']}"
+    changed = client.patch(url, json={"version": 1, "notes": "wiped", "changed_by": "  Bea   Lo "}).get_json()
+    assert (changed["saved_by"], changed["changed_by"], changed["deleted_by"]) == ("Ada", "Bea Lo", "")
+    deleted = client.delete(f"{url}?by=Cy").get_json()["deleted"]
+    assert deleted["deleted_by"] == "Cy"
+    assert client.get(f"{URL}/bin").get_json()["snippets"][0]["deleted_by"] == "Cy"
+    restored = client.post(f"{url}/restore?by=Di", json={}).get_json()
+    assert (restored["changed_by"], restored["deleted_by"], restored["saved_by"]) == ("Di", "", "Ada")
+    # Without a name the change is still made, by nobody said.
+    plain = client.patch(url, json={"version": restored["version"], "notes": "again"}).get_json()
+    assert plain["changed_by"] == ""
+
+
+def test_a_name_too_long_or_not_text_is_refused_naming_the_field(client):
+    snippet = new(client)
+    url = f"{URL}/{snippet['id']}"
+    assert "at most" in assert_error(client.patch(url, json={"version": 1, "changed_by": "x" * 500}), 400, "changed_by")
+    assert_error(client.patch(url, json={"version": 1, "changed_by": 7}), 400, "changed_by")
+    assert_error(client.delete(f"{url}?by={'x' * 500}"), 400, "by")
+    assert client.get(url).get_json()["version"] == 1
+
+
+def test_the_description_lists_every_field_a_snippet_answer_has(client):
+    document = client.get("/api/v1/openapi.json").get_json()
+    described = set(document["components"]["schemas"]["Snippet"]["properties"])
+    answer = new(client)
+    assert set(answer) <= described
+    assert {"changed_by", "deleted_by", "saved_by"} <= described
+    delete = document["paths"]["/snippets/{snippet_id}"]["delete"]["parameters"]
+    assert "by" in {p.get("name") for p in delete}

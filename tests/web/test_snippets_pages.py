@@ -52,8 +52,10 @@ def test_the_save_button_under_a_film_result_leads_to_a_save_form_with_the_resul
     page = text(form)
     assert "Save this film chain" in page
     # 4 BCM/in² = 6.2 µm of cells (NIST SP 811 inch); half of half reaches the substrate
-    assert re.search(r"Substrate wet</dt>\s*<dd><span class=\"num\">1.55</span> µm</dd>", page)
-    assert 'name="title" type="text" value="Film chain: 4.0 BCM/in2"' in page
+    # with the other system's figure beside it (webapp.common.formatting.preferred)
+    wet = r"Substrate wet</dt>\s*<dd><span class=\"num\">1.55</span> µm <span class=\"also\">\(0.061 mil\)</span></dd>"
+    assert re.search(wet, page)
+    assert 'name="title" type="text" value="Film chain: 4.0 BCM/in²"' in page  # in² as the app shows it
     assert 'name="job_number"' in page and 'name="saved_by"' in page
 
 
@@ -133,7 +135,7 @@ def test_rerun_says_plainly_whether_todays_core_agrees(app, client):
         results = dict(CALCULATIONS["film"](FILM), substrate_wet={"value": 9.0, "unit": "um"})
         conn.execute("UPDATE snippet SET results = ? WHERE id = ?", (json.dumps(results), snippet_id))
     page = text(client.get(f"/snippets/{snippet_id}?rerun=1"))
-    assert "Today's core gives different results</strong> for 1 value:" in page
+    assert "Today's version gives different results</strong> for 1 value:" in page
     assert re.search(r"Substrate wet</th>\s*<td class=\"num\"><span class=\"num\">9</span> µm", page)
     kept = client.post(f"/snippets/{snippet_id}/keep", data={"csrf_token": csrf(client), "version": "1"})
     assert kept.status_code == 303
@@ -151,13 +153,17 @@ def test_edit_and_the_conflict_of_two_people_editing(client):
     conflict = client.post(f"/snippets/{snippet_id}/edit", data=phone)
     assert conflict.status_code == 409
     page = text(conflict)
-    assert "Changed by someone else meanwhile — here is the newer one" in page
+    assert "changed this snippet while you were editing" in page and "Nothing was overwritten" in page
     assert "from the tablet" in page  # the newer one
-    assert ">from the phone</textarea>" in page  # what this person typed is kept
+    assert 'name="notes" value="from the phone"' in page  # what this person typed is kept, as "mine"
     assert hidden_fields(conflict.get_data(as_text=True))["version"] == "2"
     assert "from the tablet" in text(client.get(f"/snippets/{snippet_id}"))
-    # Saving again on purpose puts the phone's words over the newer version.
-    assert client.post(f"/snippets/{snippet_id}/edit", data={**phone, "version": "2"}).status_code == 303
+    # Saving again without a choice does not put the phone's words over the newer version.
+    again = client.post(f"/snippets/{snippet_id}/edit", data={**phone, "version": "2", "conflict": "notes"})
+    assert again.status_code == 409 and "Choose which one to keep" in text(again)
+    assert "from the tablet" in text(client.get(f"/snippets/{snippet_id}"))
+    chosen = {**phone, "version": "2", "base_version": "1", "conflict": "notes", "choose-notes": "mine"}
+    assert client.post(f"/snippets/{snippet_id}/edit", data=chosen).status_code == 303
     assert "from the phone" in text(client.get(f"/snippets/{snippet_id}"))
 
 

@@ -5,6 +5,7 @@ from __future__ import annotations
 
 import contextlib
 import sqlite3
+from datetime import date, timedelta
 
 import pytest
 from hypothesis import HealthCheck, given, settings
@@ -29,6 +30,9 @@ def conn(path):
         yield connection
 
 
+BEFORE = db.version_before("snippet_search")
+
+
 def save(conn, title="Station 3", **meta):
     return store.create(conn, "film", FILM, {"title": title, **meta}, CALCULATIONS)
 
@@ -39,9 +43,9 @@ def titles(conn, *args, **kwargs):
 
 def test_a_file_of_the_version_before_is_migrated_and_its_snippets_are_found(path):
     with contextlib.closing(sqlite3.connect(path)) as old:
-        for script in db.MIGRATIONS[: db.SCHEMA_VERSION - 1]:
+        for script in db.MIGRATIONS[:BEFORE]:
             old.executescript(script)
-        old.execute(f"PRAGMA user_version = {db.SCHEMA_VERSION - 1}")
+        old.execute(f"PRAGMA user_version = {BEFORE}")
         rows = [
             (1, "a" * 32, "Opaque white on kraft", "24-0117", "N1", "3", "blade changed", None),
             (2, "b" * 32, "Cyan proof", "24-0200", "W1", "1", "", None),
@@ -55,7 +59,7 @@ def test_a_file_of_the_version_before_is_migrated_and_its_snippets_are_found(pat
         )
         old.execute("INSERT INTO snippet_tag (snippet_id, tag) VALUES (2, 'handover')")
         old.commit()
-    assert db.migrate(path) == db.SCHEMA_VERSION - 1
+    assert db.migrate(path) == BEFORE
     with contextlib.closing(db.connect(path)) as conn:
         assert titles(conn, "white") == ["Opaque white on kraft"]
         assert titles(conn, "hand") == ["Cyan proof"]
@@ -120,8 +124,9 @@ def test_filters_sorts_pages_and_counts(conn):
     save(conn, "A second", press="N2", station="10", job_number="24-0010")
     store.create(conn, "convert", {"quantity": "4 BCM/in2", "to": "cm3/m2"}, {"title": "c third"}, CALCULATIONS)
     assert titles(conn) == ["c third", "A second", "b first"]
-    assert titles(conn, sort="title") == ["A second", "b first", "c third"]
-    assert titles(conn, sort="job") == ["A second", "b first", "c third"]
+    assert titles(conn, order="oldest") == ["b first", "A second", "c third"]
+    assert titles(conn, order="title") == ["A second", "b first", "c third"]
+    assert titles(conn, order="job") == ["b first", "A second", "c third"]  # no job number last
     assert titles(conn, station="10") == ["A second"]
     assert titles(conn, kind="convert") == ["c third"]
     assert titles(conn, press="N1", q="first") == ["b first"]
@@ -129,15 +134,19 @@ def test_filters_sorts_pages_and_counts(conn):
     assert titles(conn, limit=1, offset=1) == ["A second"]
     assert store.search(conn, offset=10) == ([], 3)
     today = store.now_text()[:10]
-    assert len(titles(conn, since=today, until=today)) == 3
-    assert titles(conn, until="2000-01-01") == []
+    tomorrow = (date.fromisoformat(today) + timedelta(days=1)).isoformat()
+    day = {"changed_from": today + "T00:00:00Z", "changed_before": tomorrow + "T00:00:00Z"}
+    assert len(titles(conn, **day)) == 3
+    assert titles(conn, changed_before="2000-01-01T00:00:00Z") == []
+    assert titles(conn, changed_from=tomorrow + "T00:00:00Z") == []
     assert store.stations(conn) == ["2", "10"]
-    for bad in ({"since": "yesterday"}, {"until": "2024-02-30"}, {"since": "2024-02-02", "until": "2024-02-01"}):
-        with pytest.raises(InputError):
-            store.search(conn, **bad)
+    for field, bad in (("changed_from", "yesterday"), ("changed_before", "2024-02-30")):
+        with pytest.raises(InputError) as info:
+            store.search(conn, **{field: bad})
+        assert info.value.field == field
     with pytest.raises(InputError) as info:
-        store.search(conn, sort="colour")
-    assert info.value.field == "sort"
+        store.search(conn, order="colour")
+    assert info.value.field == "order"
 
 
 def test_many_matches_walk_the_sort_order_and_agree_with_few(conn, monkeypatch):

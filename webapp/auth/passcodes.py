@@ -84,6 +84,10 @@ def init_app(app) -> None:
         SESSION_COOKIE_HTTPONLY=True,
         SESSION_COOKIE_SAMESITE="Strict",
         PERMANENT_SESSION_LIFETIME=90 * 24 * 3600,
+        # The cookie is sent again only when the session changes (a new CSRF token, an
+        # unlock, a lock), not on every answer: an unlock carries its own end
+        # ("until"), so renewing the cookie's date on each request bought nothing.
+        SESSION_REFRESH_EACH_REQUEST=False,
     )
     app.extensions["inkfilm_throttle"] = Throttle(
         free_tries=app.config.get("PASSCODE_FREE_TRIES", 3),
@@ -99,7 +103,7 @@ def init_app(app) -> None:
     app.extensions["inkfilm_checking"] = {role: threading.Lock() for role in ("shop", "supervisor")}
     # The database is migrated by now (webapp.common.db.init_app runs first).
     purge_expired(database_path(app))
-    app.context_processor(lambda: {"auth": auth_state()})
+    app.context_processor(lambda: {"auth": LazyAuthState()})
 
 
 def _secret_key(data_dir: Path) -> bytes:
@@ -458,6 +462,21 @@ def purge_expired(path) -> None:
 
 def allowed(action: str, role: str) -> bool:
     return RANK[role] >= RANK[needed(action)]
+
+
+class LazyAuthState:
+    """``auth_state()`` for templates, worked out on first use: a template that never asks
+    (``sw.js``) leaves the session unread, so its answer needs no ``Vary: Cookie``."""
+
+    def __getattr__(self, name):
+        if name.startswith("_"):
+            raise AttributeError(name)
+        if "_state" not in self.__dict__:
+            self.__dict__["_state"] = auth_state()
+        try:
+            return self.__dict__["_state"][name]
+        except KeyError:
+            raise AttributeError(name) from None
 
 
 def auth_state() -> dict:

@@ -46,8 +46,11 @@ def unlock_page():
 @bp.post("/lock")
 def lock_page():
     passcodes.lock_this_device()
-    flash("Locked again on this device.")
-    return redirect(url_for("auth.settings"), code=303)
+    target = _next(request.form.get("next"))
+    if target == url_for("auth.settings"):
+        flash("Locked again on this device.")
+    # The header's one-tap lock comes back to the page it was on (its bar gone says it is locked).
+    return redirect(target, code=303)
 
 
 @bp.post("/lock-all")

@@ -43,7 +43,7 @@ def compute_convert(body: dict) -> dict:
 
 CONVERT = Calculator(
     kind="convert",
-    title="Conversion",
+    title="Convert to one unit",
     compute=compute_convert,
     main_input="quantity",
     required=CONVERT_REQUIRED,
@@ -222,7 +222,7 @@ def page():
 
 EQUIVALENTS = Calculator(
     kind="equivalents",
-    title="Quick converter",
+    title="Convert",
     compute=compute_equivalents,
     path="/",
     view=page,

@@ -11,17 +11,19 @@ from __future__ import annotations
 import csv
 import io
 import json
+from datetime import date
 
-from flask import Response, request
+from flask import Response, abort, current_app, has_app_context, render_template, request
 
-from calc import InputError
-from calc.display import format_money, format_number, show_value
+from calc import InputError, practice
+from calc.display import format_money, format_number, format_percent, show_value, unit_label
 from calc.estimate import (
     IMPRESSIONS_HIGH,
     MAX_STATIONS,
     NAME_MAX,
     REPEAT_HIGH,
     RUN_LENGTH_HIGH,
+    UNIT,
     WEB_WIDTH_HIGH,
     Station,
     job_ink,
@@ -29,8 +31,9 @@ from calc.estimate import (
 from calc.film import ANILOX_VOLUME_HIGH
 from calc.units import DENSITY_HIGH, DENSITY_LOW
 from webapp.calculators.spec import Answer, Calculator
-from webapp.common.formatting import both, steps
+from webapp.common.formatting import both, currency, field_name, shown, steps, when
 from webapp.common.forms import (
+    FormValues,
     choose,
     field_errors,
     form_values,
@@ -40,7 +43,7 @@ from webapp.common.forms import (
     quantity_text,
 )
 from webapp.common.htmx import is_htmx, respond
-from webapp.common.jsonapi import check_fields, quantity_json
+from webapp.common.jsonapi import check_fields
 from webapp.common.preference import current_system
 
 # Request fields, name → kind (see PHASE2's request-field convention). ``stations`` is a
@@ -109,6 +112,11 @@ def run(body: dict):
             raise InputError(f"{where}.coverage", "is required (or give inked_area_per_label for a labels job)")
         stations.append(Station(**{"coverage": None} | fields))
     return job_ink(stations=stations, **body)
+
+
+def quantity_json(quantity, unit: str) -> dict:
+    """As ``webapp.common.jsonapi.quantity_json``, with the unit parsed once (``calc.estimate.UNIT``)."""
+    return {"value": float(quantity.m_as(UNIT[unit])), "unit": unit}
 
 
 def _optional(item: dict, key: str, value, unit: str | None = None) -> None:
@@ -184,13 +192,18 @@ def _verdict(station, job, system: str) -> str | None:
     return f"{text}: prints about {good} of the {whole} run"
 
 
+def _money(value: float) -> str:
+    """A cost to the cent with the shop's currency symbol (the ``CURRENCY`` setting), if it has one."""
+    return currency(format_money(value))
+
+
 def _per_1000(station, job, system: str) -> tuple | None:
     """(ink, cost) per 1,000 labels, or else per 1,000 impressions, where the count is known."""
     for count, what in ((job.labels, "labels"), (job.impressions, "impressions")):
         if count:
             ink = getattr(station, f"ink_per_1000_{what}")
             cost = getattr(station, f"cost_per_1000_{what}")
-            return both(ink, "mass", system)[0], None if cost is None else format_money(cost)
+            return both(ink, "mass", system)[0], None if cost is None else _money(cost)
     return None
 
 
@@ -208,7 +221,7 @@ def present(job, system: str) -> dict:
                 "fill": station.fill_mass is not None and station.fill_mass.magnitude > 0,
                 "coverage": show_value(station.coverage, system),
                 "mileage": None if station.mileage is None else both(station.mileage, "mileage", system),
-                "cost": None if station.cost is None else format_money(station.cost),
+                "cost": None if station.cost is None else _money(station.cost),
                 "per_1000": _per_1000(station, job, system),
                 "verdict": _verdict(station, job, system),
                 "enough": station.enough,
@@ -233,11 +246,11 @@ def present(job, system: str) -> dict:
         "total_volume": both(job.total_ink_volume, "volume", system),
         "total_pull": both(job.total_pull_mass, "mass", system),
         "any_fill": any(s["fill"] for s in stations),
-        "total_cost": None if job.total_cost is None else format_money(job.total_cost),
-        "cost_per_1000_labels": None if job.cost_per_1000_labels is None else format_money(job.cost_per_1000_labels),
+        "total_cost": None if job.total_cost is None else _money(job.total_cost),
+        "cost_per_1000_labels": None if job.cost_per_1000_labels is None else _money(job.cost_per_1000_labels),
         "cost_per_1000_impressions": None
         if job.cost_per_1000_impressions is None
-        else format_money(job.cost_per_1000_impressions),
+        else _money(job.cost_per_1000_impressions),
         "priced": any(station.cost is not None for station in job.stations),
         "per_1000_of": "labels" if job.labels else "impressions" if job.impressions else None,
         "on_hand": any(station.enough is not None for station in job.stations),
@@ -306,6 +319,7 @@ CSV_COLUMNS = (
     ("enough", lambda s, a: None if "enough" not in a else ("yes" if a["enough"] else "no")),
     ("short_by_kg", lambda s, a: (a.get("short_by") or {}).get("value")),
 )
+CSV_MONEY = frozenset({"price_per_kg", "cost", "cost_per_1000_impressions", "cost_per_1000_labels"})
 # A spreadsheet runs a cell that starts with one of these as a formula.
 FORMULA_STARTS = ("=", "+", "-", "@", "\t", "\r")
 
@@ -332,7 +346,8 @@ def csv_text(body: dict) -> str:
     answer = compute(body)
     out = io.StringIO()
     writer = csv.writer(out, lineterminator="\r\n")
-    writer.writerow([name for name, _ in CSV_COLUMNS])
+    symbol = current_app.config.get("CURRENCY", "") if has_app_context() else ""
+    writer.writerow([f"{name} ({symbol})" if symbol and name in CSV_MONEY else name for name, _ in CSV_COLUMNS])
     for station_in, station in zip(body["stations"], answer["stations"], strict=True):
         writer.writerow([inert(station["name"])] + [_cell(get(station_in, station)) for _, get in CSV_COLUMNS[1:]])
     totals = {
@@ -384,6 +399,9 @@ REPEAT_UNITS = ("mm", "in")
 FILL_UNITS = ("l", "kg", "gal", "lb")
 ON_HAND_UNITS = ("kg", "l", "lb", "gal")
 PRICE_UNITS = ("kg", "lb")  # the price is per kg or per lb of ink
+LABEL_AREA_UNITS = ("cm2", "mm2", "in2")
+# The rough coverage menu: a kind of artwork → the typical share it fills in (common practice).
+COVERAGE_KINDS = tuple(practice.TYPICAL_COVERAGES)
 RUN_BASES = ("length", "impressions", "labels")
 TYPICAL_TRANSFER = "25"  # about half to the plate, half of that to the substrate (common practice)
 DEMO_STATIONS = (
@@ -421,6 +439,9 @@ STATION_KEYS = (
     "fill_unit",
     "on_hand",
     "on_hand_unit",
+    "inked_area_per_label",
+    "inked_area_unit",
+    "coverage_kind",
     # the price as typed, per kg or per lb as ``price_unit`` says (the name is the first release's)
     "price_per_kg",
     "price_unit",
@@ -444,6 +465,16 @@ JOB_FIELDS = (
     "stations",
     "_form",
 )
+# Words for the print view's header; never part of the calculation (at most TICKET_MAX characters each).
+TICKET_FIELDS = (
+    ("job_number", "Job"),
+    ("customer", "Customer"),
+    ("press", "Press"),
+    ("prepared_by", "Prepared by"),
+)
+TICKET_MAX = 80
+# The fields typed as a percentage: a share typed as 0.5 gets a "did you mean 50 %?" beside it.
+PERCENT_FIELDS = ("coverage", "transfer")
 
 
 def defaults(system: str) -> dict:
@@ -464,7 +495,7 @@ def defaults(system: str) -> dict:
         "makeready_unit": start["length"],
         "waste": "5",
         "station_count": str(len(DEMO_STATIONS)),
-    }
+    } | {name: "" for name, _ in TICKET_FIELDS}
 
 
 def station_defaults(index: int, system: str = "metric") -> dict:
@@ -485,6 +516,10 @@ def station_defaults(index: int, system: str = "metric") -> dict:
         "on_hand_unit": "lb" if imperial else "kg",
         "price_per_kg": "",
         "price_unit": "lb" if imperial else "kg",
+        "inked_area_per_label": "",
+        "inked_area_unit": "in2" if imperial else "cm2",
+        "coverage_kind": "",
+        "ink": "",  # the id of the shop's ink picked for the station, if any (fills density and price)
     }
 
 
@@ -498,16 +533,18 @@ def estimate_form() -> dict:
         count = len(DEMO_STATIONS)
     posted = request.method == "POST"
     action = request.form.get("action", "") if posted else ""
+    # A link may fill the stations too (a saved estimate's "Open in the calculator").
+    given = request.form if posted else request.args
     stations = []
     for index in range(max(1, min(count, MAX_STATIONS))):
         station = station_defaults(index, system)
-        if posted and f"stations[{index}].name" in request.form:
+        if f"stations[{index}].name" in given:
             # a field the form did not post (an older page) keeps its default
             station.update(
                 {
-                    key: request.form[f"stations[{index}].{key}"]
+                    key: given[f"stations[{index}].{key}"][: None if posted else 100]
                     for key in station
-                    if f"stations[{index}].{key}" in request.form
+                    if f"stations[{index}].{key}" in given
                 }
             )
         if (
@@ -517,8 +554,23 @@ def estimate_form() -> dict:
         ):
             station["price_unit"] = "kg"  # a form from before prices per lb
         stations.append(station)
+    if not posted:
+        # A link may fill the first station's anilox (the roll register's "job estimate with this roll");
+        # the values are checked like typed ones.
+        stations[0].update(
+            {key: request.args[key][:40] for key in ("anilox_volume", "anilox_unit") if key in request.args}
+        )
     if action == "add" and len(stations) < MAX_STATIONS:
         stations.append(station_defaults(len(stations), system) | {"name": f"Station {len(stations) + 1}"})
+    elif action.startswith("copy-") and len(stations) < MAX_STATIONS:
+        try:
+            source = stations[int(action.removeprefix("copy-"))]
+        except (ValueError, IndexError):
+            source = None
+        if source is not None:
+            stations.append(source | {"name": f"{source['name'].strip()} copy"[:NAME_MAX]})
+    elif action.startswith("ink-"):
+        _fill_from_ink(stations, action.removeprefix("ink-"))
     elif action.startswith("remove-") and len(stations) > 1:
         try:
             del stations[int(action.removeprefix("remove-"))]
@@ -526,7 +578,28 @@ def estimate_form() -> dict:
             pass
     form["stations"] = stations
     form["station_count"] = str(len(stations))
+    for name, _ in TICKET_FIELDS:
+        form[name] = str(form[name])[:TICKET_MAX]
     return form
+
+
+def _fill_from_ink(stations: list[dict], index: str) -> None:
+    """The no-script page's "Fill from this ink": the station's density and price from the shop's ink
+    it picked (the fields stay editable). An unknown station or ink leaves the fields as typed."""
+    from webapp.common.db import get_db
+    from webapp.inks import store as inks
+
+    station = stations[int(index)] if index.isdigit() and int(index) < len(stations) else None
+    ident = station["ink"].strip() if station else ""
+    if not (ident.isdigit() and len(ident) <= 12):
+        return
+    try:
+        ink = inks.get_ink(get_db(), int(ident))
+    except inks.NotFound:
+        return
+    station.update(ink_density=f"{ink['density_g_cm3']:.6g}", ink_density_unit="g/cm3")
+    if ink["price"] is not None:
+        station.update(price_per_kg=f"{ink['price']:.6g}", price_unit=ink["price_per"])
 
 
 def _count(text, field: str, *, required: bool = True):
@@ -574,10 +647,18 @@ def form_body(form: dict) -> dict:
         item = {
             "name": station["name"],
             "anilox_volume": _quantity(station, "anilox_volume", ANILOX_UNITS, unit_field="anilox_unit", **mine),
-            "coverage": parse_percent(station["coverage"], where + "coverage"),
-            "transfer": parse_percent(station["transfer"], where + "transfer"),
-            "ink_density": _quantity(station, "ink_density", DENSITY_UNITS, unit_field="ink_density_unit", **mine),
         }
+        area = _quantity(
+            station, "inked_area_per_label", LABEL_AREA_UNITS, required=False, unit_field="inked_area_unit", **mine
+        )
+        if area is not None:
+            item["inked_area_per_label"] = area  # instead of the coverage, which is then not used
+        elif not station["coverage"].strip() and station.get("coverage_kind") in practice.TYPICAL_COVERAGES:
+            item["coverage"] = practice.TYPICAL_COVERAGES[station["coverage_kind"]]  # the rough choice, no script
+        else:
+            item["coverage"] = parse_percent(station["coverage"], where + "coverage")
+        item["transfer"] = parse_percent(station["transfer"], where + "transfer")
+        item["ink_density"] = _quantity(station, "ink_density", DENSITY_UNITS, unit_field="ink_density_unit", **mine)
         for key, units in (("fill", FILL_UNITS), ("on_hand", ON_HAND_UNITS)):
             value = _quantity(station, key, units, required=False, **mine)
             if value is not None:
@@ -612,19 +693,198 @@ def _folded(form: dict, errors: dict) -> list[bool]:
     folded = []
     for index, station in enumerate(stations):
         mine = any(name.startswith(f"stations[{index}].") for name in errors)
-        filled = all(station[key].strip() for key in ("name", "anilox_volume", "coverage", "transfer", "ink_density"))
+        filled = all(station[key].strip() for key in ("name", "anilox_volume", "transfer", "ink_density")) and (
+            station["coverage"].strip() or station["inked_area_per_label"].strip()
+        )
         folded.append(filled and not mine and index < len(stations) - 1)
     return folded
+
+
+def entered(body: dict) -> dict:
+    """The inputs as the printout lists them, read from the API request body (as a saved estimate keeps it)."""
+
+    def text(key, value):
+        if isinstance(value, str) and " " in value.strip():  # "300.0 mm" as the page wrote it: 300 mm
+            amount, _, unit = value.strip().rpartition(" ")
+            try:
+                return f"{format_number(float(amount))} {unit_label(unit)}"
+            except ValueError:
+                pass
+        return "—" if value is None else shown(key, value, shares=SHARES, money=MONEY)
+
+    rows = []
+    for station in body.get("stations", []):
+        if "inked_area_per_label" in station:
+            cover = f"{text('area', station['inked_area_per_label'])} a label"
+        else:
+            cover = text("coverage", station.get("coverage"))
+        price = "—"
+        for per in PRICE_UNITS:
+            if station.get(f"price_per_{per}") is not None:
+                price = f"{currency(format_money(float(station[f'price_per_{per}'])))}/{per}"
+        rows.append(
+            [
+                station.get("name", ""),
+                text("anilox_volume", station.get("anilox_volume")),
+                cover,
+                text("transfer", station.get("transfer")),
+                text("ink_density", station.get("ink_density")),
+                price,
+                text("fill", station.get("fill")),
+                text("on_hand", station.get("on_hand")),
+            ]
+        )
+    return {"web_width": text("web_width", body.get("web_width")), "rows": rows}
+
+
+def _share_hint(text) -> str | None:
+    """ "Did you mean 50 %?" for a share typed as 0.5 in a percentage field (a hint: the value is used as typed)."""
+    try:
+        value = parse_percent(text, None, required=False)
+    except InputError:
+        return None
+    if value is None or not 0.0 < value * 100.0 < 1.0:
+        return None
+    typed = format_number(value * 100.0, 4)
+    return f"Did you mean {format_percent(value * 100.0)} %? This field is in percent: {typed} here is {typed} %."
+
+
+def notes(form: dict) -> dict:
+    """Hints beside fields, by form field (not errors, nothing changed): a share typed where a
+    percentage is asked, a coverage the inked area per label stands in for, a typical coverage."""
+    found = {}
+    waste = _share_hint(form["waste"])
+    if waste:
+        found["waste"] = waste
+    for index, station in enumerate(form["stations"]):
+        p = f"stations[{index}]."
+        for key in PERCENT_FIELDS:
+            hint = _share_hint(station[key])
+            if hint:
+                found[p + key] = hint
+        kind = station.get("coverage_kind", "")
+        if station["inked_area_per_label"].strip():
+            found[p + "coverage"] = "Not used: the inked area per label below gives this station's coverage."
+        elif p + "coverage" not in found and kind in practice.TYPICAL_COVERAGES:
+            typical = format_percent(practice.TYPICAL_COVERAGES[kind])
+            typed = station["coverage"].replace("%", "").strip()
+            if not typed or typed == typical:
+                found[p + "coverage"] = (
+                    f"{typical} % is typical for {kind} artwork (common practice): a rough guess, "
+                    "change it to match the job."
+                )
+        density, unit = START[current_system()]["density"]
+        if "white" in station["name"].lower() and (station["ink_density"].strip(), station["ink_density_unit"]) == (
+            density,
+            unit,
+        ):
+            found[p + "ink_density"] = f"Whites are heavier: {density_hint(current_system(), whites_only=True)}."
+    return found
+
+
+def density_hint(system: str, *, whites_only: bool = False) -> str:
+    """Typical press-ready densities in the user's units (common practice, calc.practice)."""
+    unit = START[system]["density"][1]
+
+    def span(r) -> str:
+        return f"{format_number(r.low.to(unit).magnitude)}–{format_number(r.high.to(unit).magnitude)}"
+
+    whites = span(practice.WHITE_DENSITY_TYPICAL)
+    if whites_only:
+        return f"opaque whites are about {whites} {unit_label(unit)} (common practice): check this station's density"
+    most = span(practice.INK_DENSITY_TYPICAL)
+    return f"Most inks {most} {unit_label(unit)}; opaque whites heavier, about {whites} (common practice)."
+
+
+def _typed(form: dict, name: str):
+    """What the form holds for a field name of a message (``stations[2].coverage`` too)."""
+    if name.startswith("stations[") and "]." in name:
+        index, _, key = name.removeprefix("stations[").partition("].")
+        try:
+            return form["stations"][int(index)].get(key)
+        except (ValueError, IndexError):
+            return None
+    return form.get(name)
+
+
+def _not_yet(form: dict, errors: dict, *, live: bool) -> str | None:
+    """While the form is being edited (``live``), an empty field is not yet an error: the field
+    that is left empty, or None when the message stands (a wrong value, a field left, a submit)."""
+    if not live or len(errors) != 1:
+        return None
+    name = next(iter(errors))
+    typed = _typed(form, name)
+    if not isinstance(typed, str) or typed.strip():
+        return None
+    if request.form.get("_event") == "submit" or name in request.form.get("_left", "").split():
+        return None
+    return name
+
+
+def _work_out(form: dict, context: dict, *, live: bool) -> None:
+    """Fill ``context`` with the estimate of ``form`` (or its errors and what is not yet updated)."""
+    try:
+        body = form_body(form)
+        context.update(snippet_inputs=body, estimate=present(run(body), current_system()), entered=entered(body))
+        context["csv_body"] = json.dumps(body, separators=(",", ":"))
+    except InputError as exc:
+        errors = field_errors(exc, _renames(form))
+        empty = _not_yet(form, errors, live=live)
+        if empty is not None:
+            context["status"] = f"Not yet updated: fill in {field_name(empty).lower()}."
+        else:
+            context["errors"] = errors
+            context["status"] = "Not yet updated: fix the value marked beside its field."
+
+
+def saved_page(text: str):
+    """``/estimate?snippet=<id>``: a saved estimate as the page shows it, with the same Print and CSV.
+
+    Worked out with today's core from the saved inputs (the saved snippet's page compares them
+    with the results as saved); the header holds the snippet's job, press, who saved it and when.
+    """
+    from webapp.common.db import get_db
+    from webapp.snippets import store
+
+    try:
+        snippet = store.get(get_db(), int(text))
+    except (ValueError, OverflowError, store.NotFound):
+        abort(404)
+    if snippet["kind"] != "estimate":
+        abort(404)
+    context = {"snippet": snippet, "estimate": None, "error": None, "currency": current_app.config.get("CURRENCY", "")}
+    try:
+        body = snippet["inputs"]
+        context.update(estimate=present(run(dict(body)), current_system()), entered=entered(body))
+        context["csv_body"] = json.dumps(body, separators=(",", ":"))
+    except InputError as exc:
+        context["error"] = exc
+    meta = [("Job", snippet.get("job_number")), ("Press", snippet.get("press")), ("Station", snippet.get("station"))]
+    meta += [("Prepared by", snippet.get("saved_by")), ("Saved", when(snippet.get("created_at")))]
+    context["ticket"] = [(label, value) for label, value in meta if value]
+    context["today"] = snippet["title"]
+    return render_template("calculators/estimate_saved.html", **context)
 
 
 def page():
     if request.method == "GET" and "csv" in request.args:
         return csv_download(request.args.get("csv", ""))
+    if request.method == "GET" and "snippet" in request.args:
+        return saved_page(request.args.get("snippet", ""))
     form = estimate_form()
+    action = request.form.get("action", "") if request.method == "POST" else ""
+    target = request.headers.get("HX-Target") if is_htmx() else None
     context = {
         "form": form,
         "errors": {},
         "estimate": None,
+        "status": None,
+        "notes": notes(form),
+        "today": date.today().isoformat(),
+        "density_hint": density_hint(current_system()),
+        "ticket_fields": TICKET_FIELDS,
+        "ticket": [(label, form[name]) for name, label in TICKET_FIELDS if form[name].strip()],
+        "currency": current_app.config.get("CURRENCY", ""),
         "snippet_kind": "estimate",
         "max_stations": MAX_STATIONS,
         "job_fields": JOB_FIELDS,
@@ -638,21 +898,32 @@ def page():
             "fill": FILL_UNITS,
             "on_hand": ON_HAND_UNITS,
             "price": PRICE_UNITS,
+            "label_area": LABEL_AREA_UNITS,
         },
+        "coverage_kinds": [(kind, format_percent(share)) for kind, share in practice.TYPICAL_COVERAGES.items()],
     }
-    body = None
-    try:
-        body = form_body(form)
-        context.update(snippet_inputs=body, estimate=present(run(body), current_system()))
-    except InputError as exc:
-        context["errors"] = field_errors(exc, _renames(form))
-    if body is not None and context["estimate"] is not None:
-        context["csv_body"] = json.dumps(body, separators=(",", ":"))
-        if request.form.get("action") == "csv" and not is_htmx():
-            return csv_download(context["csv_body"])  # the no-script page's download button
+    _work_out(form, context, live=target is not None)
+    if context["estimate"] is None and action == "add" and target == "estimate-area":
+        # The station just added is empty: keep the totals of the stations before it, marked so.
+        before = FormValues(form)
+        before["stations"] = form["stations"][:-1]
+        earlier = {"errors": {}, "estimate": None, "status": None}
+        _work_out(before, earlier, live=True)
+        if earlier["estimate"] is not None:
+            new = form["stations"][-1]["name"]
+            context.update(earlier, status=f"Not yet updated: {new} counts once its fields are filled in.")
+            context.pop("snippet_inputs", None)
+    elif context["estimate"] is not None and action == "csv" and not is_htmx():
+        return csv_download(context["csv_body"])  # the no-script page's download button
     context["folded"] = _folded(form, context["errors"])
-    if request.headers.get("HX-Target") == "estimate-area":
+    if target == "estimate-area":
         return respond("calculators/estimate.html", "calculators/_estimate_area.html", oob=False, **context)
+    if target is not None and context["estimate"] is None:
+        # While the form is edited the last good totals stay on screen: only the messages beside
+        # the fields and the "not yet updated" line change (out of band).
+        response = respond("calculators/estimate.html", "calculators/_estimate_result.html", stale=True, **context)
+        response.headers["HX-Reswap"] = "none"
+        return response
     return respond("calculators/estimate.html", "calculators/_estimate_result.html", **context)
 
 

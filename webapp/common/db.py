@@ -28,32 +28,33 @@ MAX_ID = 2**63 - 1
 
 MIGRATIONS_DIR = Path(__file__).with_name("migrations")
 
-# Numbers handed to migrations of branches not merged here yet (0006 the Saved list's history,
-# 0007 the outbox's client ids). Empty once they are merged: then no number may be missing.
-RESERVED_MIGRATIONS: frozenset[int] = frozenset({6, 7})
-
 
 def _load_migrations() -> list[str]:
     """The numbered ``.sql`` files, in order: ``0001_….sql`` takes a file from version 0 to 1.
 
     Never edit a migration that has shipped: add a new file with the next number.
-    A number may be missing only while it is RESERVED for a migration on another branch (see
-    ``RESERVED_MIGRATIONS``); it then runs as an empty step. Once merged, no number is missing.
     """
     files = sorted(MIGRATIONS_DIR.glob("[0-9][0-9][0-9][0-9]_*.sql"))
-    scripts: list[str] = []
-    for path in files:
-        number = int(path.name[:4])
-        while len(scripts) + 1 < number and len(scripts) + 1 in RESERVED_MIGRATIONS:
-            scripts.append("")
-        if number != len(scripts) + 1:
-            raise RuntimeError(f"migration {path.name} is out of sequence (expected number {len(scripts) + 1:04d})")
-        scripts.append(path.read_text(encoding="utf-8"))
-    return scripts
+    for expected, path in enumerate(files, start=1):
+        if int(path.name[:4]) != expected:
+            raise RuntimeError(f"migration {path.name} is out of sequence (expected number {expected:04d})")
+    return [path.read_text(encoding="utf-8") for path in files]
 
 
 MIGRATIONS: list[str] = _load_migrations()
 SCHEMA_VERSION = len(MIGRATIONS)
+
+
+def version_before(name: str) -> int:
+    """The schema version a file has just before the migration ``NNNN_<name>.sql`` runs.
+
+    For tests that write a file of "the version before" a feature, whatever its number.
+    """
+    files = sorted(MIGRATIONS_DIR.glob("[0-9][0-9][0-9][0-9]_*.sql"))
+    for index, path in enumerate(files):
+        if path.name[5:-4] == name:
+            return index
+    raise KeyError(name)
 
 
 class NewerDatabaseError(RuntimeError):

@@ -35,10 +35,13 @@ class FormValues(dict):
 
 
 def form_values(defaults: dict) -> FormValues:
-    """The posted form over the defaults (a GET shows the defaults)."""
+    """The posted form over the defaults (a GET shows the defaults, or the values its address gives)."""
     values = FormValues(defaults)
     if request.method == "POST":
         values.update({key: value for key, value in request.form.items() if key in defaults or "[" in key})
+    elif request.args:
+        # A link may fill the form (a saved snippet's "Open in the calculator"); checked like typed values.
+        values.update({key: value[:100] for key, value in request.args.items() if key in defaults})
     return values
 
 

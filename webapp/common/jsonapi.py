@@ -16,6 +16,7 @@ from collections.abc import Collection
 from flask import Blueprint, jsonify, request
 
 from calc import InputError
+from calc.units import magnitude_in, unit_label
 from webapp.common import jsontext
 from webapp.common.errors import WebError
 
@@ -65,9 +66,8 @@ def limit_body():
 def quantity_json(quantity, unit: str | None = None) -> dict:
     """``{"value": <full precision>, "unit": <spelling>}`` in ``unit`` (as spelt)."""
     if unit is not None:
-        quantity = quantity.to(unit)
-    spelling = unit if unit is not None else f"{quantity.units:~P}"
-    return {"value": float(quantity.magnitude), "unit": spelling}
+        return {"value": float(magnitude_in(quantity, unit)), "unit": unit}
+    return {"value": float(quantity.magnitude), "unit": unit_label(quantity)}
 
 
 def check_fields(body, required: Collection[str], optional: Collection[str] = frozenset(), prefix: str = "") -> dict:

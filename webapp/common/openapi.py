@@ -200,7 +200,16 @@ def snippet_create() -> dict:
         "inputs": {"type": "object", "description": "the request body of that calculation"},
         "title": {"type": "string", "minLength": 1, "pattern": r"\S", "maxLength": rules.LIMITS["title"]},
     }
-    properties |= {name: meta_field(name) for name in sorted(snippets_api.CREATE_OPTIONAL)}
+    properties |= {name: meta_field(name) for name in sorted(snippets_api.META_OPTIONAL)}
+    properties["client_id"] = {
+        "type": ["string", "null"],
+        "pattern": rules.CLIENT_ID_PATTERN.pattern,
+        "description": (
+            "a UUID the sender made for this save (a phone's outbox does): sent again with the same "
+            "contents it is answered 200 with the snippet saved the first time, never saved twice; "
+            "the same id with other contents is a 409 naming `client_id`"
+        ),
+    }
     return {
         "type": "object",
         "properties": properties,
@@ -213,6 +222,11 @@ def snippet_update() -> dict:
     properties = {
         "version": {"type": "integer", "minimum": 1, "description": "the version the change was made against"},
         "rerun": {"type": "boolean", "description": "true: keep today's results of a re-run"},
+        snippets_api.CHANGED_BY: {
+            "type": ["string", "null"],
+            "maxLength": rules.LIMITS["saved_by"],
+            "description": 'who makes the change (shown as "changed by"; the saver stays in `saved_by`)',
+        },
     }
     properties |= {name: meta_field(name) for name in sorted(snippets_api.UPDATE_FIELDS)}
     if "title" in properties:
@@ -232,7 +246,9 @@ SNIPPET = {
         "station": {"type": "string"},
         "notes": {"type": "string"},
         "tags": {"type": "array", "items": {"type": "string"}},
-        "saved_by": {"type": "string"},
+        "saved_by": {"type": "string", "description": "who saved it first"},
+        "changed_by": {"type": "string", "description": "who made the latest change (empty: nobody said)"},
+        "deleted_by": {"type": "string", "description": "who moved it to the bin (empty when not in the bin)"},
         "inputs": {"type": "object"},
         "results": {"type": "object"},
         "created_at": {"type": "string"},
@@ -269,6 +285,13 @@ def query(name: str, schema: dict, description: str) -> dict:
     return {"name": name, "in": "query", "required": False, "description": description, "schema": schema}
 
 
+BY_PARAMETER = query(
+    snippets_api.BY_QUERY,
+    {"type": "string", "maxLength": rules.LIMITS["saved_by"]},
+    "who does it (the bin and the history say so)",
+)
+
+
 def snippet_paths() -> dict:
     write = {**REFUSALS, **GATE}
     return {
@@ -295,6 +318,18 @@ def snippet_paths() -> dict:
                         **json_body(ONE, "saved"),
                         "headers": {"Location": {"description": "its address", "schema": {"type": "string"}}},
                     },
+                    "200": {
+                        **json_body(ONE, "saved before under this `client_id`: the snippet from then, not saved again"),
+                        "headers": {"Location": {"description": "its address", "schema": {"type": "string"}}},
+                    },
+                    "409": json_body(
+                        {
+                            "type": "object",
+                            "properties": {"error": {"$ref": "#/components/schemas/ErrorDetail"}, "current": ONE},
+                            "required": ["error", "current"],
+                        },
+                        "this `client_id` was used for a save with other contents: `current` is that snippet",
+                    ),
                     **write,
                 },
             },
@@ -310,6 +345,7 @@ def snippet_paths() -> dict:
                 "parameters": [
                     *GATE_HEADERS,
                     query("version", {"type": "integer", "minimum": 1}, "refuse (409) if it changed since"),
+                    BY_PARAMETER,
                 ],
                 "responses": {
                     "200": json_body(
@@ -339,7 +375,7 @@ def snippet_paths() -> dict:
             "post": {
                 "operationId": "restore_snippet",
                 "summary": "Take a snippet back out of the bin",
-                "parameters": GATE_HEADERS,
+                "parameters": [*GATE_HEADERS, BY_PARAMETER],
                 "requestBody": {"required": False, "content": {JSON: {"schema": {"type": "object"}}}},
                 "responses": {"200": json_body(ONE), **REFUSALS, **GATE, **NOT_FOUND},
             },

@@ -10,7 +10,6 @@ from __future__ import annotations
 import io
 from pathlib import Path
 
-import segno
 from flask import Blueprint, Response, abort, current_app, render_template, request, url_for
 
 from webapp.https.front import ROOT_DOWNLOAD_NAME, fingerprint
@@ -82,6 +81,8 @@ def root_certificate():
 
 def _qr(url: str) -> Response:
     out = io.BytesIO()
+    import segno  # only when a QR code is drawn: not at every start
+
     segno.make(url, error="m").save(out, kind="svg", scale=6, border=2, xmldecl=False, title=url)
     response = Response(out.getvalue(), mimetype="image/svg+xml")
     response.headers["Cache-Control"] = "no-cache"

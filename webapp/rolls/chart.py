@@ -10,6 +10,9 @@ from __future__ import annotations
 import math
 from datetime import date, timedelta
 
+from calc.display import format_number, unit_label
+from calc.units import Q_
+
 WIDTH, HEIGHT = 640, 300
 LEFT, RIGHT, TOP, BOTTOM = 52, 96, 14, 34
 
@@ -20,17 +23,20 @@ def _nice_step(span: float) -> float:
     return next(step * power for step in (1, 2, 2.5, 5, 10) if step * power >= raw)
 
 
-def wear_chart(wear, cleanings: list[str], today: date) -> dict:
-    """Everything the template draws, in SVG user units (y grows down)."""
+def wear_chart(wear, cleanings: list[str], today: date, unit: str = "BCM/in2") -> dict:
+    """Everything the template draws, in SVG user units (y grows down); volumes labelled in ``unit``."""
+    per_bcm = Q_(1.0, "BCM/in2").to(unit).magnitude
+    label = unit_label(unit)
     start = wear.engraved_on
     end = today
     if wear.replace_by is not None and wear.replace_by > end:
         # Show the forecast if it falls within a few years; beyond, an arrow note says when.
         end = min(wear.replace_by + timedelta(days=30), today + timedelta(days=3 * 365))
     end = max(end, start + timedelta(days=30))
-    nominal = wear.nominal.magnitude
-    values = [nominal, wear.start_volume.magnitude, wear.threshold.magnitude]
-    values += [r.volume.magnitude for r in wear.readings]
+    nominal = wear.nominal.magnitude * per_bcm
+    threshold = wear.threshold.magnitude * per_bcm
+    values = [nominal, wear.start_volume.magnitude * per_bcm, threshold]
+    values += [r.volume.magnitude * per_bcm for r in wear.readings]
     low, high = min(values), max(values)
     pad = max((high - low) * 0.12, nominal * 0.03)
     low, high = max(0.0, low - pad), high + pad
@@ -47,7 +53,7 @@ def wear_chart(wear, cleanings: list[str], today: date) -> dict:
     ticks = []
     tick = math.ceil(low / step) * step
     while tick <= high:
-        ticks.append({"y": y(tick), "label": f"{tick:.3g}"})
+        ticks.append({"y": y(tick), "label": format_number(tick)})
         tick += step
     years = []
     for year in range(start.year + 1, end.year + 1):
@@ -56,10 +62,9 @@ def wear_chart(wear, cleanings: list[str], today: date) -> dict:
             years.append({"x": x(day), "label": str(year)})
     points = []
     for reading in wear.readings:
-        cx, cy = x(reading.on), y(reading.volume.magnitude)
-        title = (
-            f"{reading.on.isoformat()}: {reading.volume.magnitude:.3g} BCM/in², {reading.condition.replace('_', ' ')}"
-        )
+        volume = reading.volume.magnitude * per_bcm
+        cx, cy = x(reading.on), y(volume)
+        title = f"{reading.on.isoformat()}: {format_number(volume)} {label}, {reading.condition.replace('_', ' ')}"
         if reading.condition == "as_found":
             shape = (
                 f"{cx},{round(cy - 6, 1)} {round(cx - 6, 1)},{round(cy + 5, 1)} {round(cx + 6, 1)},{round(cy + 5, 1)}"
@@ -80,7 +85,12 @@ def wear_chart(wear, cleanings: list[str], today: date) -> dict:
         )
     line = None
     if wear.line is not None:
-        line = {"x1": x(start), "y1": y(wear.line.at(start)), "x2": x(end), "y2": y(wear.line.at(end))}
+        line = {
+            "x1": x(start),
+            "y1": y(wear.line.at(start) * per_bcm),
+            "x2": x(end),
+            "y2": y(wear.line.at(end) * per_bcm),
+        }
         line = _clip(line, TOP, HEIGHT - BOTTOM)
     forecast = None
     if wear.replace_by is not None and wear.replace_by <= end:
@@ -94,8 +104,9 @@ def wear_chart(wear, cleanings: list[str], today: date) -> dict:
         "bottom": HEIGHT - BOTTOM,
         "ticks": ticks,
         "years": years,
-        "nominal": {"y": y(nominal), "label": f"nominal {nominal:.3g}"},
-        "threshold": {"y": y(wear.threshold.magnitude), "label": f"replace {wear.threshold.magnitude:.3g}"},
+        "unit": label,
+        "nominal": {"y": y(nominal), "label": f"nominal {format_number(nominal)}"},
+        "threshold": {"y": y(threshold), "label": f"replace {format_number(threshold)}"},
         "points": points,
         "cleanings": marks,
         "line": line,

@@ -197,11 +197,11 @@ def import_csv(conn, table: str, text: str, *, today: date | None = None) -> dic
         raise ImportRefused(errors[:MAX_REPORTED])
     stamp = store.now_text()
     with transaction(conn):
-        for item in checked:
-            if table == "rolls":
+        if table == "rolls":
+            for item in checked:
                 store.insert_roll(conn, item, stamp)
-            else:
-                store.insert_entry(conn, KIND[table], item[0], item[1], stamp)
+        else:
+            store.insert_entries(conn, KIND[table], checked, stamp)
     return {"added": len(checked), "already_here": already}
 
 

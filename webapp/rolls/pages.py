@@ -1,17 +1,16 @@
 """The roll register's pages (a supervisor on a tablet): overview, a roll with its chart and logs,
-forms to add a roll, a measurement and a cleaning, and "which of our rolls fit this job?".
+forms to add a roll, a measurement and a cleaning, to correct a logged one, and "which of our rolls fit this job?".
 
 Views read the form into the fields the store checks, call the store or
 ``webapp.rolls.register``, render. Every write form carries the CSRF token
-and passes ``form_gate`` (measurements and cleanings: ``write``; rolls:
-``supervise``); a refused or wrong form comes back with the typed words kept
+and passes ``form_gate`` (measurements and cleanings: ``write``; rolls and
+correcting or removing a logged entry: ``supervise``); a refused or wrong form comes back with the typed words kept
 and the message beside the field.
 """
 
 from __future__ import annotations
 
 from datetime import date
-from urllib.parse import urlencode
 
 from flask import Blueprint, Response, abort, flash, redirect, render_template, request, url_for
 
@@ -22,7 +21,8 @@ from webapp.auth.csrf import protect
 from webapp.auth.gate import form_gate
 from webapp.common.db import get_db
 from webapp.common.forms import choose, parse_number
-from webapp.rolls import chart, exchange, register, rules, store
+from webapp.common.htmx import respond
+from webapp.rolls import chart, exchange, register, rules, shown, store
 
 bp = Blueprint("rolls", __name__)
 protect(bp)
@@ -43,6 +43,12 @@ ROLL_DEFAULTS = {
     "status": "spare",
     "notes": "",
 }
+# The fields of a log entry's form, and the prefix of their ids and error keys.
+ENTRY_FORMS = {
+    "measurement": {"measured_on": "", "volume": "", "volume_unit": "BCM/in2", "condition": "", "method": "", "by": ""},
+    "cleaning": {"cleaned_on": "", "method": "", "by": "", "notes": ""},
+}
+PREFIX = {"measurement": "m-", "cleaning": "c-"}
 
 
 def _load(roll: int) -> dict:
@@ -86,11 +92,18 @@ def index():
         errors[exc.field] = exc.message
         status, low, high = "", None, None
     rows = register.overview(
-        store.all_rolls(conn), store.logs(conn), press=filters["press"], status=status, screen_low=low, screen_high=high
+        store.all_rolls(conn),
+        store.logs(conn),
+        press=filters["press"],
+        status=status,
+        screen_low=low,
+        screen_high=high,
+        unit=shown.volume_unit(),
     )
     counts = {code: sum(1 for _, wear in rows if code in wear.codes) for code in register.FLAG_NAMES}
-    return render_template(
+    return respond(
         "rolls/index.html",
+        "rolls/_list.html",
         rows=rows,
         filters=filters,
         errors=errors,
@@ -107,8 +120,9 @@ def _roll_page(roll: dict, *, measurement=None, cleaning=None, errors=None, stat
     conn = get_db()
     log = store.logs(conn, [roll["id"]])[roll["id"]]
     today = date.today()
-    wear = register.picture(roll, log, today)
-    drawing = chart.wear_chart(wear, [c["cleaned_on"] for c in log["cleaning"]], today)
+    unit = shown.volume_unit()
+    wear = register.picture(roll, log, today, unit)
+    drawing = chart.wear_chart(wear, [c["cleaned_on"] for c in log["cleaning"]], today, unit)
     return (
         render_template(
             "rolls/roll.html",
@@ -120,7 +134,7 @@ def _roll_page(roll: dict, *, measurement=None, cleaning=None, errors=None, stat
             or {
                 "measured_on": today.isoformat(),
                 "volume": "",
-                "volume_unit": "BCM/in2",
+                "volume_unit": unit,
                 "condition": "as_found",
                 "method": "",
                 "by": "",
@@ -139,22 +153,28 @@ def show(roll: int):
     return _roll_page(_load(roll))
 
 
+def _entry_body(kind: str, form: dict) -> dict:
+    """A log entry's form as the fields the store checks (a measurement's volume with its unit)."""
+    if kind == "cleaning":
+        return dict(form)
+    return {
+        "measured_on": form["measured_on"],
+        "volume": _quantity(form, "volume", "volume_unit", VOLUME_UNITS),
+        "condition": form["condition"],
+        "method": form["method"],
+        "by": form["by"],
+    }
+
+
 @bp.post("/rolls/<int:roll>/measurements")
 def add_measurement(roll: int):
     current = _load(roll)
-    form = _form({"measured_on": "", "volume": "", "volume_unit": "BCM/in2", "condition": "", "method": "", "by": ""})
+    form = _form(ENTRY_FORMS["measurement"])
     message, status = form_gate("write")
     if message:
         return _roll_page(current, measurement=form, errors={"m-passcode": message}, status=status)
     try:
-        body = {
-            "measured_on": form["measured_on"],
-            "volume": _quantity(form, "volume", "volume_unit", VOLUME_UNITS),
-            "condition": form["condition"],
-            "method": form["method"],
-            "by": form["by"],
-        }
-        store.add_entry(get_db(), "measurement", roll, body)
+        store.add_entry(get_db(), "measurement", roll, _entry_body("measurement", form))
     except InputError as exc:
         return _roll_page(current, measurement=form, errors={f"m-{exc.field}": exc.message}, status=400)
     flash("Measurement logged.")
@@ -164,15 +184,82 @@ def add_measurement(roll: int):
 @bp.post("/rolls/<int:roll>/cleanings")
 def add_cleaning(roll: int):
     current = _load(roll)
-    form = _form({"cleaned_on": "", "method": "", "by": "", "notes": ""})
+    form = _form(ENTRY_FORMS["cleaning"])
     message, status = form_gate("write")
     if message:
         return _roll_page(current, cleaning=form, errors={"c-passcode": message}, status=status)
     try:
-        store.add_entry(get_db(), "cleaning", roll, {**form})
+        store.add_entry(get_db(), "cleaning", roll, _entry_body("cleaning", form))
     except InputError as exc:
         return _roll_page(current, cleaning=form, errors={f"c-{exc.field}": exc.message}, status=400)
     flash("Cleaning logged. Measure the roll again to see how far it recovered.")
+    return redirect(url_for("rolls.show", roll=roll) + "#wear", code=303)
+
+
+def _entry_fields(kind: str, entry: dict) -> dict:
+    """A stored log entry as its correct form shows it (volume in the preferred unit), with its version."""
+    if kind == "measurement":
+        fields = {
+            "measured_on": entry["measured_on"],
+            "volume": shown.form_volume(entry["volume_bcm"]),
+            "volume_unit": shown.volume_unit(),
+            "condition": entry["condition"],
+            "method": entry["method"],
+            "by": entry["measured_by"],
+        }
+    else:
+        fields = {"cleaned_on": entry["cleaned_on"], "method": entry["method"], "by": entry["cleaned_by"]}
+        fields["notes"] = entry["notes"]
+    return {**fields, "version": str(entry["version"]), "reason": ""}
+
+
+def _entry_form(kind, roll, entry, form, *, errors=None, newer=None, status=200):
+    return (
+        render_template(
+            "rolls/correct.html",
+            kind=kind,
+            p=PREFIX[kind],
+            roll=roll,
+            entry=entry,
+            form=form,
+            errors=errors or {},
+            newer=newer,
+            methods=rules.CLEANING_METHODS,
+            today=date.today().isoformat(),
+        ),
+        status,
+    )
+
+
+@bp.route("/rolls/<int:roll>/<any(measurement, cleaning):kind>/<int:entry>/correct", methods=["GET", "POST"])
+def correct_entry(roll: int, kind: str, entry: int):
+    current = _load(roll)
+    try:
+        stored = store.get_entry(get_db(), kind, roll, entry)
+    except store.NotFound:
+        abort(404)
+    if request.method == "GET":
+        return _entry_form(kind, current, stored, _entry_fields(kind, stored))
+    p = PREFIX[kind]
+    form = _form({**ENTRY_FORMS[kind], "version": "", "reason": ""})
+    message, status = form_gate("supervise")
+    if message:
+        return _entry_form(kind, current, stored, form, errors={f"{p}passcode": message}, status=status)
+    try:
+        store.correct_entry(
+            get_db(), kind, roll, entry, form["version"], _entry_body(kind, form), reason=form["reason"]
+        )
+    except store.NotFound:
+        flash(f"That {kind} was removed meanwhile; nothing was corrected.")
+        return redirect(url_for("rolls.show", roll=roll) + "#logs", code=303)
+    except store.Conflict as exc:
+        form["version"] = str(exc.current["version"])
+        errors = {"form": exc.message}
+        return _entry_form(kind, current, exc.current, form, errors=errors, newer=exc.current, status=409)
+    except InputError as exc:
+        errors = {f"{p}{exc.field}" if exc.field else "form": exc.message}
+        return _entry_form(kind, current, stored, form, errors=errors, status=400)
+    flash(f"The {kind} was corrected; its old values are kept in the roll's history.")
     return redirect(url_for("rolls.show", roll=roll) + "#wear", code=303)
 
 
@@ -234,7 +321,7 @@ def _roll_form(form, *, roll=None, errors=None, newer=None, status=200):
 @bp.route("/rolls/new", methods=["GET", "POST"])
 def new():
     if request.method == "GET":
-        return _roll_form(dict(ROLL_DEFAULTS, engraved_on=date.today().isoformat()))
+        return _roll_form(dict(ROLL_DEFAULTS, engraved_on=date.today().isoformat(), volume_unit=shown.volume_unit()))
     form = _form(ROLL_DEFAULTS)
     message, status = form_gate("supervise")
     if message:
@@ -253,9 +340,9 @@ def _fields_of(roll: dict) -> dict:
         "screen": f"{roll['screen_lpi']:g}",
         "screen_unit": "lpi",
         "angle": str(roll["angle"]),
-        "nominal_volume": f"{roll['nominal_bcm']:g}",
-        "volume_unit": "BCM/in2",
-        "certificate_volume": "" if roll["certificate_bcm"] is None else f"{roll['certificate_bcm']:g}",
+        "nominal_volume": shown.form_volume(roll["nominal_bcm"]),
+        "volume_unit": shown.volume_unit(),
+        "certificate_volume": shown.form_volume(roll["certificate_bcm"]),
         "engraved_on": roll["engraved_on"],
         "press": roll["press"],
         "location": roll["location"],
@@ -298,23 +385,20 @@ def fit():
             plate = None
             if form["plate_screen"].strip():
                 plate = f"{parse_number(form['plate_screen'], 'plate_screen')!r} lpi"
-            answer = register.fitting(store.all_rolls(conn), store.logs(conn), plate, form["work"])
+            answer = register.fitting(
+                store.all_rolls(conn), store.logs(conn), plate, form["work"], unit=shown.volume_unit()
+            )
         except InputError as exc:
             errors[exc.field or "work"] = exc.message
-    return render_template(
+    return respond(
         "rolls/fit.html",
+        "rolls/_fit_answer.html",
         form=form,
         answer=answer,
         errors=errors,
         kinds=WORK_KINDS,
         work_names=WORK_NAMES,
-        film_link=film_link,
     )
-
-
-def film_link(volume_bcm: float) -> str:
-    """The film chain with this volume filled in (the film page reads GET values)."""
-    return "/film?" + urlencode({"anilox_volume": f"{volume_bcm:.4g}", "anilox_unit": "BCM/in2"})
 
 
 # --- CSV -----------------------------------------------------------------------------------------

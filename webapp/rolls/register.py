@@ -15,7 +15,7 @@ from flask import current_app
 from calc import InputError
 from calc.fit import fit_check, parse_plate_screen, parse_work
 from calc.units import Q_
-from calc.wear import URGENCY_FINE, wear_picture
+from calc.wear import BCM_PER_IN2, MESSAGE_UNITS, URGENCY_FINE, wear_picture
 from webapp.common.jsonapi import quantity_json
 from webapp.rolls.rules import AVAILABLE, STATUS_NAMES
 
@@ -28,15 +28,16 @@ def wear_settings() -> dict:
     return {name: configured[name] for name in SETTING_NAMES if name in configured}
 
 
-def picture(roll: dict, log: dict, today: date | None = None):
-    """The wear picture of a stored roll with its log."""
+def picture(roll: dict, log: dict, today: date | None = None, unit: str = "BCM/in2"):
+    """The wear picture of a stored roll with its log; its messages state volumes in ``unit``."""
     return wear_picture(
         Q_(roll["nominal_bcm"], "BCM/in2"),
         date.fromisoformat(roll["engraved_on"]),
-        [(m["measured_on"], Q_(m["volume_bcm"], "BCM/in2"), m["condition"]) for m in log["measurement"]],
+        [(m["measured_on"], Q_(m["volume_bcm"], BCM_PER_IN2), m["condition"]) for m in log["measurement"]],
         certificate_volume=None if roll["certificate_bcm"] is None else Q_(roll["certificate_bcm"], "BCM/in2"),
         cleanings=[c["cleaned_on"] for c in log["cleaning"]],
         today=today or date.today(),
+        message_unit=unit,
         **wear_settings(),
     )
 
@@ -121,7 +122,9 @@ def location_text(roll: dict) -> str:
     return roll["press"] or roll["location"] or "—"
 
 
-def overview(rolls: list[dict], logs: dict, *, press="", status="", screen_low=None, screen_high=None, today=None):
+def overview(
+    rolls: list[dict], logs: dict, *, press="", status="", screen_low=None, screen_high=None, today=None, unit="BCM/in2"
+):
     """``(roll, wear)`` pairs, filtered, most urgent first (replace, off spec, clean, measure, fine), then by ID."""
     rows = []
     for roll in rolls:
@@ -133,7 +136,7 @@ def overview(rolls: list[dict], logs: dict, *, press="", status="", screen_low=N
             continue
         if screen_high is not None and roll["screen_lpi"] > screen_high:
             continue
-        rows.append((roll, picture(roll, logs[roll["id"]], today)))
+        rows.append((roll, picture(roll, logs[roll["id"]], today, unit)))
     # Retired rolls need nothing: they sort last whatever their flags.
     rows.sort(
         key=lambda pair: (
@@ -145,13 +148,13 @@ def overview(rolls: list[dict], logs: dict, *, press="", status="", screen_low=N
     return rows
 
 
-def fitting(rolls: list[dict], logs: dict, plate_screen, work, *, today=None) -> dict:
+def fitting(rolls: list[dict], logs: dict, plate_screen, work, *, today=None, unit="BCM/in2") -> dict:
     """Which rolls in use or spare fit the job, judged on their latest measured volume; best first.
 
     Best is closest to the middle of the volume range for the work (as a share
     of the range's width). A roll never measured is judged on its certificate
     volume, else its nominal, and says so. Rolls sent out or retired are left
-    out without a fit check.
+    out without a fit check. Messages state volumes in ``unit``; the numbers are in BCM/in².
     """
     kind = parse_work(work)
     plate = None if plate_screen in (None, "") else parse_plate_screen(plate_screen)
@@ -159,7 +162,7 @@ def fitting(rolls: list[dict], logs: dict, plate_screen, work, *, today=None) ->
     fitting_rows, left_out = [], []
     for roll in rolls:
         log = logs[roll["id"]]
-        wear = picture(roll, log, today)
+        wear = picture(roll, log, today, unit)
         entry = roll_json(roll, log, wear)
         if roll["status"] not in AVAILABLE:
             left_out.append(
@@ -175,7 +178,7 @@ def fitting(rolls: list[dict], logs: dict, plate_screen, work, *, today=None) ->
             volume, judged_on = roll["certificate_bcm"], "certificate"
         else:
             volume, judged_on = roll["nominal_bcm"], "nominal"
-        check = fit_check(kind, plate, Q_(roll["screen_lpi"], "lpi"), Q_(volume, "BCM/in2"))
+        check = fit_check(kind, plate, Q_(roll["screen_lpi"], "lpi"), Q_(volume, "BCM/in2").to(unit))
         low = check.volume_range.low.to("BCM/in2").magnitude
         high = check.volume_range.high.to("BCM/in2").magnitude
         middle, width = (low + high) / 2, max(high - low, 1e-9)
@@ -202,13 +205,17 @@ def fitting(rolls: list[dict], logs: dict, plate_screen, work, *, today=None) ->
                     0,
                     {
                         "code": "worn_out_of_range",
-                        "message": f"its nominal {roll['nominal_bcm']:.3g} BCM/in² would fit, but it measured "
-                        f"{volume:.3g} BCM/in² on {wear.latest.on.isoformat()}: out of the range for this work",
+                        "message": f"its nominal {_say(roll['nominal_bcm'], unit)} would fit, but it measured "
+                        f"{_say(volume, unit)} on {wear.latest.on.isoformat()}: out of the range for this work",
                     },
                 )
         left_out.append({"roll": entry, "problems": problems})
     fitting_rows.sort(key=lambda entry: (entry["fit"]["off_middle"], entry["roll_id"].upper()))
     return {"fitting": fitting_rows, "left_out": left_out}
+
+
+def _say(bcm: float, unit: str) -> str:
+    return f"{Q_(bcm, 'BCM/in2').to(unit).magnitude:.3g} {MESSAGE_UNITS[unit]}"
 
 
 def check_screen_filter(value, field: str) -> float | None:

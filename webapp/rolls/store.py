@@ -244,6 +244,17 @@ def insert_entry(conn, kind: str, roll: int, clean: dict, stamp: str) -> int:
     return cursor.lastrowid
 
 
+def insert_entries(conn, kind: str, entries: list[tuple[int, dict]], stamp: str) -> None:
+    """Insert checked ``(roll, entry)`` pairs in one statement (inside the caller's transaction; the import)."""
+    spec = ENTRIES[kind]
+    columns = spec["columns"]
+    conn.executemany(
+        f"INSERT INTO {spec['table']} (roll, {', '.join(columns)}, created_at, updated_at, version)"
+        f" VALUES (?, {', '.join('?' * len(columns))}, ?, ?, 1)",
+        ([roll, *(clean[name] for name in columns), stamp, stamp] for roll, clean in entries),
+    )
+
+
 def add_entry(conn, kind: str, roll: int, data: dict, *, today: date | None = None, now=None) -> dict:
     """Log a measurement or cleaning on ``roll``; the new entry."""
     current = get_roll(conn, roll)

@@ -5,13 +5,18 @@ and the same passcode rules as the pages (``webapp.auth.gate``): reading is
 open; a write sends the passcode in ``X-Inkfilm-Passcode``, or relies on an
 unlocked session cookie and then carries ``X-CSRF-Token``. Writes send JSON
 (``Content-Type: application/json``), which a page on another site cannot.
+
+A create may carry ``client_id``, a UUID the sender made for this save (a
+phone's outbox does): sent again, it is answered 200 with the snippet saved the
+first time instead of saving a second; the same id with other contents is a 409
+naming ``client_id``.
 """
 
 from __future__ import annotations
 
 import re
 
-from flask import Blueprint, Response, jsonify, request, url_for
+from flask import Blueprint, Response, current_app, jsonify, request, url_for
 
 from calc import InputError
 from webapp.auth.gate import api_gate as require
@@ -24,13 +29,37 @@ from webapp.snippets.rerun import rerun as work_out_again
 bp = Blueprint("snippets_api", __name__, url_prefix="/snippets")
 
 MAX_QUERY = 200
-CREATE_OPTIONAL = {"job_number", "press", "station", "notes", "tags", "saved_by"}
-UPDATE_FIELDS = {"title", *CREATE_OPTIONAL}
+META_OPTIONAL = {"job_number", "press", "station", "notes", "tags", "saved_by"}
+CREATE_OPTIONAL = {*META_OPTIONAL, "client_id"}
+UPDATE_FIELDS = {"title", *META_OPTIONAL}
+# Who makes a change (shown as "changed by", "deleted by"): a body field of an update,
+# the ``by`` query parameter of a delete or a restore. Not stored as a field of its own.
+CHANGED_BY = "changed_by"
+BY_QUERY = "by"
+
+
+def _by(raw, field: str) -> str:
+    """A name as the page's "your name" takes it; the message names ``field``."""
+    if raw is None:
+        return ""
+    if not isinstance(raw, str):
+        raise InputError(field, "must be a name (text)")
+    try:
+        return store.check_by(raw)
+    except InputError as exc:
+        raise InputError(field, exc.message) from None
 
 
 @bp.errorhandler(store.NotFound)
 def not_found(exc: store.NotFound):
     return error_response("id", f"there is no snippet {exc.args[0]} here", 404)
+
+
+@bp.errorhandler(store.IdTaken)
+def id_taken(exc: store.IdTaken):
+    response = jsonify(error={"field": "client_id", "message": exc.message}, current=exc.current)
+    response.status_code = 409
+    return response
 
 
 @bp.errorhandler(store.Conflict)
@@ -79,10 +108,10 @@ def list_snippets():
 def create_snippet():
     require("write")
     body = check_fields(request_body(), {"kind", "inputs", "title"}, CREATE_OPTIONAL)
-    kind, inputs = body.pop("kind"), body.pop("inputs")
-    snippet = store.create(get_db(), kind, inputs, body, CALCULATIONS)
+    kind, inputs, client_id = body.pop("kind"), body.pop("inputs"), body.pop("client_id", None)
+    snippet, created = store.create_once(get_db(), client_id, kind, inputs, body, CALCULATIONS)
     response = jsonify(snippet)
-    response.status_code = 201
+    response.status_code = 201 if created else 200  # 200: saved before under this client_id
     response.headers["Location"] = url_for("api.snippets_api.read_snippet", snippet_id=snippet["id"])
     return response
 
@@ -110,8 +139,9 @@ def rerun_snippet(snippet_id: int):
 @bp.route("/<int:snippet_id>", methods=["PUT", "PATCH"])
 def update_snippet(snippet_id: int):
     require("write")
-    body = check_fields(request_body(), {"version"}, UPDATE_FIELDS | {"rerun"})
+    body = check_fields(request_body(), {"version"}, UPDATE_FIELDS | {"rerun", CHANGED_BY})
     version = body.pop("version")
+    by = _by(body.pop(CHANGED_BY, None), CHANGED_BY)
     results = None
     if not isinstance(body.get("rerun", False), bool):
         raise InputError("rerun", "must be true (keep today's results) or false")
@@ -120,20 +150,21 @@ def update_snippet(snippet_id: int):
         if rerun.error is not None:
             raise rerun.error
         results = rerun.results
-    return jsonify(store.update(get_db(), snippet_id, version, body, results=results))
+    return jsonify(store.update(get_db(), snippet_id, version, body, results=results, by=by))
 
 
 @bp.delete("/<int:snippet_id>")
 def delete_snippet(snippet_id: int):
     require("supervise")
-    snippet = store.delete(get_db(), snippet_id, request.args.get("version"))
+    by = _by(request.args.get(BY_QUERY), BY_QUERY)
+    snippet = store.delete(get_db(), snippet_id, request.args.get("version"), by=by)
     return jsonify(deleted=snippet, gone_for_good_after=store.purge_date(snippet))
 
 
 @bp.post("/<int:snippet_id>/restore")
 def restore_snippet(snippet_id: int):
     require("supervise")
-    return jsonify(store.restore(get_db(), snippet_id))
+    return jsonify(store.restore(get_db(), snippet_id, by=_by(request.args.get(BY_QUERY), BY_QUERY)))
 
 
 @bp.get("/bin")
@@ -155,7 +186,7 @@ def export_json():
 @bp.get("/export.csv")
 def export_csv():
     return Response(
-        exchange.export_csv_stream(database_path()),
+        exchange.export_csv_stream(database_path(), current_app.extensions.get("inkfilm_zone")),
         mimetype="text/csv",
         headers={"Content-Disposition": 'attachment; filename="inkfilm-snippets.csv"'},
     )

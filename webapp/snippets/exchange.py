@@ -29,8 +29,9 @@ import ijson
 from calc import InputError
 from webapp.calculators import CALCULATIONS
 from webapp.common.db import connect, transaction
+from webapp.common.formatting import is_number, is_quantity, local_time
 from webapp.snippets.rules import check_data, check_kind, check_meta
-from webapp.snippets.store import MAX_VERSION, insert_row, now_text, rows_to_snippets
+from webapp.snippets.store import MAX_VERSION, check_by, insert_row, now_text, rows_to_snippets
 
 EXPORT_FORMAT = "inkfilm-snippets"
 MAX_IMPORT = 2_000_000
@@ -51,6 +52,7 @@ EXPORT_FIELDS = (
     "notes",
     "tags",
     "saved_by",
+    "changed_by",
     "inputs",
     "results",
     "created_at",
@@ -120,26 +122,69 @@ def spreadsheet_safe(text: str) -> str:
     return text
 
 
-def export_csv(conn) -> str:
-    """Every snippet not in the bin as CSV (see ``export_csv_stream``), in memory."""
-    return "".join(_csv_pieces(conn))
+# The figure a snippet is saved for, by kind (else the first quantity of the results):
+# the Saved list shows it, the CSV gives it as plain number and unit columns.
+HEADLINE = {
+    "convert": "result",
+    "film": "substrate_wet",
+    "estimate": "total_ink_mass",
+    "cell": "volume",
+    "density_volume_for": "anilox_volume",
+    "density_from": "density",
+    "density_fit": "d_inf",
+}
+# A spreadsheet reads a CSV file as UTF-8 only when it starts with the byte-order mark.
+CSV_BOM = "\ufeff"
+CSV_EXTRA = ("result", "result_value", "result_unit", "created_local", "updated_local")
 
 
-def export_csv_stream(path) -> Iterator[str]:
-    """Every snippet not in the bin of the file at ``path`` as CSV, in pieces, from one snapshot."""
+def headline(snippet: dict):
+    """``(name, value)`` of the result a snippet is saved for, or ``None`` (nothing to show)."""
+    results = snippet.get("results")
+    if not isinstance(results, dict):
+        return None
+    key = HEADLINE.get(snippet.get("kind"))
+    if key in results and (is_quantity(results[key]) or is_number(results[key])):
+        return key, results[key]
+    for name, value in results.items():
+        if is_quantity(value):
+            return name, value
+    return None
+
+
+def _headline_cells(snippet: dict) -> list:
+    found = headline(snippet)
+    if found is None:
+        return ["", "", ""]
+    name, value = found
+    if is_quantity(value):
+        return [name, value["value"] if is_number(value["value"]) else "", str(value["unit"])]
+    return [name, value, ""]
+
+
+def export_csv(conn, zone=None) -> str:
+    """Every snippet not in the bin as CSV (see ``export_csv_stream``), in memory, without the BOM."""
+    return "".join(_csv_pieces(conn, zone))
+
+
+def export_csv_stream(path, zone=None) -> Iterator[str]:
+    """Every snippet not in the bin of the file at ``path`` as CSV, ``CSV_BOM`` first, in pieces,
+    from one snapshot."""
+    yield CSV_BOM
     with _reading(path) as conn:
-        yield from _csv_pieces(conn)
+        yield from _csv_pieces(conn, zone)
 
 
-def _csv_pieces(conn) -> Iterator[str]:
-    """One row per snippet; inputs and results as JSON text.
+def _csv_pieces(conn, zone=None) -> Iterator[str]:
+    """One row per snippet; inputs and results as JSON text, then the headline result as plain
+    number and unit columns and the times in ``zone`` (``None``: the server's own).
 
-    Every text cell is quoted and made inert (``spreadsheet_safe``); the JSON
-    export, not this file, is what imports back.
+    Every text cell is quoted and made inert (``spreadsheet_safe``); ``import_csv_stream``
+    reads such a file back.
     """
     out = io.StringIO()
     writer = csv.writer(out, quoting=csv.QUOTE_NONNUMERIC)
-    writer.writerow(["id", *EXPORT_FIELDS])
+    writer.writerow(["id", *EXPORT_FIELDS, *CSV_EXTRA])
     for batch in _live_rows(conn):
         for snippet in batch:
             cells = [snippet["id"]]
@@ -150,6 +195,8 @@ def _csv_pieces(conn) -> Iterator[str]:
                 elif name in ("inputs", "results"):
                     value = json.dumps(value, ensure_ascii=False)
                 cells.append(spreadsheet_safe(value) if isinstance(value, str) else value)
+            cells += [spreadsheet_safe(c) if isinstance(c, str) else c for c in _headline_cells(snippet)]
+            cells += [local_time(snippet["created_at"], zone), local_time(snippet["updated_at"], zone)]
             writer.writerow(cells)
         yield out.getvalue()
         out.seek(0)
@@ -181,8 +228,13 @@ def _check_import_item(item, index: int, calculations: dict) -> dict:
     version = item.get("version", 1)
     if not isinstance(version, int) or isinstance(version, bool) or not 1 <= version <= MAX_VERSION:
         raise InputError(f"{where}.version", f"must be a whole number from 1 to {MAX_VERSION:,}")
+    changed_by = item.get("changed_by")
+    try:
+        changed_by = check_by(changed_by if changed_by is not None else "")
+    except InputError as exc:
+        raise InputError(f"{where}.changed_by", exc.message) from None
     kept = {name: item[name] for name in ("uid", "kind", "inputs", "results", "created_at", "updated_at")}
-    return {**meta, **kept, "version": version}
+    return {**meta, **kept, "version": version, "changed_by": changed_by}
 
 
 class NotJSON(ValueError):

@@ -31,6 +31,8 @@ MAX_VALUE_TEXT = 1_000
 MAX_INTEGER = 10**18
 META_FIELDS = ("title", "job_number", "press", "station", "notes", "tags", "saved_by")
 KIND_PATTERN = re.compile(r"^[a-z][a-z0-9_]{0,39}$")
+# A sender's id for a save: a UUID (a phone makes one with crypto.randomUUID), 36 characters with hyphens.
+CLIENT_ID_PATTERN = re.compile(r"^[0-9a-fA-F]{8}-[0-9a-fA-F]{4}-[0-9a-fA-F]{4}-[0-9a-fA-F]{4}-[0-9a-fA-F]{12}$")
 
 
 def parse_tags(value) -> list[str]:
@@ -90,6 +92,22 @@ def check_meta(data: dict, *, partial: bool = False) -> dict:
     if (not partial or "title" in clean) and not clean.get("title"):
         raise InputError("title", "is required: a few words to find this by")
     return clean
+
+
+def check_client_id(value) -> str | None:
+    """The sender's id for a new snippet, in lower case; ``None`` when none was sent.
+
+    >>> check_client_id("3F2B8C1E-4D5A-4B6C-8D7E-9F0A1B2C3D4E")
+    '3f2b8c1e-4d5a-4b6c-8d7e-9f0a1b2c3d4e'
+    """
+    if value is None or value == "":
+        return None
+    if not isinstance(value, str) or not CLIENT_ID_PATTERN.match(value):
+        raise InputError(
+            "client_id",
+            "must be a UUID made by the sender for this save, such as 3f2b8c1e-4d5a-4b6c-8d7e-9f0a1b2c3d4e",
+        )
+    return value.lower()
 
 
 def check_kind(kind, calculations: dict, field: str = "kind") -> str:

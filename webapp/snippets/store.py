@@ -3,12 +3,15 @@
 Every change raises a snippet's ``version`` by one; a change made against an
 older version is refused with ``Conflict`` and nothing is overwritten. A
 deleted snippet lies in the bin for ``BIN_DAYS`` days and can be restored
-until then. Functions here take an open connection (``webapp.common.db``)
-and plain data checked by ``webapp.snippets.rules``.
+until then. Every version is kept in ``snippet_version`` (with who made it
+and when), so an earlier one can be looked at and brought back, and an edit
+made against an older version can be merged (``webapp.snippets.merge``).
+Functions here take an open connection (``webapp.common.db``) and plain data checked by ``webapp.snippets.rules``.
 """
 
 from __future__ import annotations
 
+import hashlib
 import json
 import re
 import uuid
@@ -16,7 +19,8 @@ from datetime import UTC, datetime, timedelta
 
 from calc import InputError
 from webapp.common.db import MAX_ID, snapshot, transaction
-from webapp.snippets.rules import META_FIELDS, check_kind, check_meta, compute
+from webapp.common.jsontext import has_lone_surrogate
+from webapp.snippets.rules import META_FIELDS, check_client_id, check_kind, check_meta, compute
 
 BIN_DAYS = 30
 # A version counts changes; the largest one taken keeps clear of SQLite's integers.
@@ -28,6 +32,18 @@ MAX_WORD = 100
 
 class NotFound(LookupError):
     """No snippet with that id (or not in the place asked for: list or bin)."""
+
+
+class IdTaken(Exception):
+    """A new snippet's ``client_id`` is the id of a snippet saved with other contents."""
+
+    def __init__(self, current: dict):
+        super().__init__(
+            f"this id was used for another save (snippet {current['id']}, “{current['title']}”); "
+            "make a new id for a new snippet"
+        )
+        self.current = current
+        self.message = str(self)
 
 
 class Conflict(Exception):
@@ -79,6 +95,8 @@ def _row_to_snippet(conn, row, tags: list[str] | None = None) -> dict:
         "notes": row["notes"],
         "tags": tags,
         "saved_by": row["saved_by"],
+        "changed_by": row["changed_by"],
+        "deleted_by": row["deleted_by"],
         "inputs": json.loads(row["inputs"]),
         "results": json.loads(row["results"]),
         "created_at": row["created_at"],
@@ -100,17 +118,20 @@ def get(conn, snippet_id: int, *, deleted: bool = False) -> dict:
     return _row_to_snippet(conn, row)
 
 
-# The list's sort orders: date (newest change first), title (A to Z), job (highest job number first).
-SORTS = {
-    "date": "s.updated_at DESC, s.id DESC",
+# The orders the Saved list offers; the SQL comes from here, never from the request. Each has
+# an index that walks it (migration snippet_search): newest/oldest ``snippet_updated``,
+# title ``snippet_live_title``, job ``snippet_live_job``.
+ORDERS = {
+    "newest": "s.updated_at DESC, s.id DESC",
+    "oldest": "s.updated_at, s.id",
     "title": "s.title COLLATE NOCASE, s.id",
-    "job": "s.job_number DESC, s.updated_at DESC, s.id DESC",
+    "job": "s.job_number = '', s.job_number COLLATE NOCASE, s.station, s.id",
 }
 # Above this many matches a page is found by walking the sort order and keeping the matches;
 # below it, by fetching the matches and sorting them.
 _WALK_ABOVE = 3_000
-_DATE = re.compile(r"[0-9]{4}-[0-9]{2}-[0-9]{2}")
 _WORD_PIECES = re.compile(r"[^\W_]+")
+_STAMP = re.compile(r"[0-9]{4}-[0-9]{2}-[0-9]{2}T[0-9]{2}:[0-9]{2}:[0-9]{2}Z")
 
 
 def match_query(q: str) -> str:
@@ -134,20 +155,20 @@ def match_query(q: str) -> str:
     return " ".join(phrases)
 
 
-def _day(value: str, field: str) -> str:
-    value = (value or "").strip()
+def _stamp(value: str, field: str) -> str:
+    value = value or ""
     if not value:
         return ""
-    if not _DATE.fullmatch(value):
-        raise InputError(field, "must be a date such as 2024-05-01")
     try:
-        datetime.strptime(value, "%Y-%m-%d")
+        if not isinstance(value, str) or not _STAMP.fullmatch(value):
+            raise ValueError(value)
+        datetime.strptime(value, "%Y-%m-%dT%H:%M:%SZ")
     except ValueError:
-        raise InputError(field, "must be a date such as 2024-05-01 (that day does not exist)") from None
+        raise InputError(field, "must be a UTC time such as 2024-05-01T00:00:00Z") from None
     return value
 
 
-def _filters(press, station, kind, since, until) -> tuple[list[str], list]:
+def _filters(press, station, kind, changed_from, changed_before) -> tuple[list[str], list]:
     """The WHERE terms (beside ``deleted_at IS NULL``) of the list's filters, and their parameters."""
     where: list[str] = []
     params: list = []
@@ -155,16 +176,14 @@ def _filters(press, station, kind, since, until) -> tuple[list[str], list]:
         if value:
             where.append(f"s.{column} = ?")
             params.append(value)
-    since, until = _day(since, "since"), _day(until, "until")
-    if since and until and until < since:
-        raise InputError("until", "must be on or after the first day")
-    if since:
+    changed_from = _stamp(changed_from, "changed_from")
+    changed_before = _stamp(changed_before, "changed_before")
+    if changed_from:
         where.append("s.updated_at >= ?")
-        params.append(since)
-    if until:
-        # Up to the end of that day: every stamp of the day sorts before the next day's date.
+        params.append(changed_from)
+    if changed_before:
         where.append("s.updated_at < ?")
-        params.append((datetime.strptime(until, "%Y-%m-%d") + timedelta(days=1)).strftime("%Y-%m-%d"))
+        params.append(changed_before)
     return where, params
 
 
@@ -174,25 +193,26 @@ def search(
     *,
     press: str = "",
     kind: str = "",
+    station: str = "",
+    changed_from: str = "",
+    changed_before: str = "",
+    order: str = "newest",
     limit: int = 50,
     offset: int = 0,
-    station: str = "",
-    since: str = "",
-    until: str = "",
-    sort: str = "date",
 ):
     """Snippets not in the bin whose title, job number, notes or tags hold every word of ``q``
-    (whole, or as the start of a word), filtered by press, station, kind and a range of days
-    of their last change (``since``/``until``, ``YYYY-MM-DD``, inclusive), in the order
-    ``sort`` (a key of ``SORTS``).
+    (whole, or as the start of a word), filtered by press, station and kind and by the time of
+    their last change (``changed_from`` inclusive, ``changed_before`` exclusive: UTC stamps as
+    ``now_text`` gives), in the order ``order`` (a key of ``ORDERS``; another is an
+    ``InputError`` naming ``order``).
 
     Returns ``(snippets, total)``: one page and the number of all matches, both from one
     snapshot of the file. Words go to the FTS5 index ``snippet_search`` (see ``match_query``).
     """
-    order = SORTS.get(sort)
-    if order is None:
-        raise InputError("sort", f"must be one of: {', '.join(SORTS)}")
-    where, params = _filters(press, station, kind, since, until)
+    sql_order = ORDERS.get(order) if isinstance(order, str) else None
+    if sql_order is None:
+        raise InputError("order", f"must be one of: {', '.join(ORDERS)}")
+    where, params = _filters(press, station, kind, changed_from, changed_before)
     match = match_query(q)
     if (q or "").strip() and not match:
         return [], 0  # only signs typed (``_``, ``%``): nothing holds them as a word
@@ -224,9 +244,9 @@ def search(
             total = conn.execute(f"SELECT count(*) FROM snippet s WHERE {condition}", params).fetchone()[0]
             if total == 0 or offset >= total:
                 return [], total
-        # ``order`` and the terms come from SORTS and _filters, never from the request.
+        # ``sql_order`` and the terms come from ORDERS and _filters, never from the request.
         rows = conn.execute(
-            f"SELECT s.* FROM snippet s WHERE {condition} ORDER BY {order} LIMIT ? OFFSET ?",
+            f"SELECT s.* FROM snippet s WHERE {condition} ORDER BY {sql_order} LIMIT ? OFFSET ?",
             [*params, limit, offset],
         ).fetchall()
         return rows_to_snippets(conn, rows), total
@@ -257,28 +277,49 @@ def presses(conn) -> list[str]:
 
 
 def stations(conn) -> list[str]:
-    """The stations named on snippets not in the bin, for a filter (numbers in number order)."""
-    return sorted(_distinct(conn, "station"), key=lambda name: (not name.isdigit(), name.zfill(8).lower()))
+    """The station names in use, for the list's filter (numbers in number order, then names)."""
+    return sorted(
+        _distinct(conn, "station"), key=lambda v: (not v.isdecimal(), int(v) if v.isdecimal() else 0, v.lower())
+    )
 
 
 def same_as(conn, kind: str, inputs, meta: dict) -> dict | None:
-    """A snippet not in the bin with the same kind, inputs, title and job number, if there is one."""
-    if not isinstance(inputs, dict):
-        return None
-    title = " ".join(str(meta.get("title") or "").split())
-    job = " ".join(str(meta.get("job_number") or "").split())
+    """A snippet not in the bin that saving ``kind``/``inputs`` with ``meta`` would repeat
+    exactly (same kind, inputs, title, job number, press and station), or ``None``."""
+    try:
+        meta = check_meta(meta)
+    except InputError:
+        return None  # saving it is refused anyway, naming the field
+    typed = json.dumps(inputs, ensure_ascii=False)
+    if has_lone_surrogate(typed) or has_lone_surrogate(str(kind)):
+        return None  # refused when it is saved, naming the field (SQLite cannot even be asked)
+    row = conn.execute(
+        "SELECT * FROM snippet WHERE deleted_at IS NULL AND kind = ? AND inputs = ? AND title = ?"
+        " AND job_number = ? AND press = ? AND station = ? ORDER BY id LIMIT 1",
+        (
+            kind,
+            typed,
+            *(str(meta.get(name) or "") for name in ("title", "job_number", "press", "station")),
+        ),
+    ).fetchone()
+    return rows_to_snippets(conn, [row])[0] if row else None
+
+
+def by_job(conn, job_number: str) -> list[dict]:
+    """Every snippet of one job number not in the bin, station by station (3 before 10, then
+    named ones), then oldest first: the job's record."""
+    job_number = " ".join(str(job_number).split())
+    if not job_number or len(job_number) > 100:
+        return []
     rows = conn.execute(
-        "SELECT * FROM snippet WHERE deleted_at IS NULL AND title = ? COLLATE NOCASE AND title = ?"
-        " AND kind = ? AND job_number = ? ORDER BY id LIMIT 50",
-        (title, title, kind, job),
+        "SELECT * FROM snippet WHERE deleted_at IS NULL AND job_number = ? ORDER BY created_at, id", (job_number,)
     ).fetchall()
-    for row in rows:
-        try:
-            if json.loads(row["inputs"]) == inputs:
-                return _row_to_snippet(conn, row)
-        except ValueError:  # pragma: no cover - the store writes JSON only
-            continue
-    return None
+
+    def station_order(snippet):
+        station = snippet["station"]
+        return (station == "", not station.isdecimal(), int(station) if station.isdecimal() else 0, station.lower())
+
+    return sorted(rows_to_snippets(conn, rows), key=station_order)
 
 
 def in_bin(conn, now: datetime | None = None) -> list[dict]:
@@ -286,6 +327,12 @@ def in_bin(conn, now: datetime | None = None) -> list[dict]:
     purge(conn, now)
     rows = conn.execute("SELECT * FROM snippet WHERE deleted_at IS NOT NULL ORDER BY deleted_at DESC, id DESC")
     return rows_to_snippets(conn, rows.fetchall())
+
+
+def purge_at(snippet: dict) -> str:
+    """When a snippet in the bin goes for good, as a stored time (for showing in the shop's zone)."""
+    deleted = datetime.strptime(snippet["deleted_at"], "%Y-%m-%dT%H:%M:%SZ")
+    return now_text(deleted + timedelta(days=BIN_DAYS))
 
 
 def purge_date(snippet: dict) -> str:
@@ -306,9 +353,9 @@ def insert_row(conn, row: dict):
     """Insert one snippet and its tags, unless its ``uid`` is here already; the cursor
     (``rowcount`` 0 when it was)."""
     cursor = conn.execute(
-        "INSERT INTO snippet (uid, kind, title, job_number, press, station, notes, saved_by,"
+        "INSERT INTO snippet (uid, kind, title, job_number, press, station, notes, saved_by, changed_by,"
         " inputs, results, created_at, updated_at, version)"
-        " VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?) ON CONFLICT (uid) DO NOTHING",
+        " VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?) ON CONFLICT (uid) DO NOTHING",
         (
             row["uid"],
             row["kind"],
@@ -318,6 +365,7 @@ def insert_row(conn, row: dict):
             row.get("station", ""),
             row.get("notes", ""),
             row.get("saved_by", ""),
+            row.get("changed_by", ""),
             json.dumps(row["inputs"], ensure_ascii=False),
             json.dumps(row["results"], ensure_ascii=False),
             row["created_at"],
@@ -332,8 +380,49 @@ def insert_row(conn, row: dict):
 
 def create(conn, kind: str, inputs: dict, meta: dict, calculations: dict, *, now: datetime | None = None) -> dict:
     """Work out ``inputs`` with today's core and save it with ``meta``; the new snippet."""
+    return create_once(conn, None, kind, inputs, meta, calculations, now=now)[0]
+
+
+def _digest(kind: str, inputs, meta: dict) -> str:
+    """What a save held, as one digest: every meta field (absent ones as empty), the kind and inputs."""
+    whole = {name: meta.get(name, [] if name == "tags" else "") for name in META_FIELDS}
+    text = json.dumps([kind, inputs, whole], sort_keys=True, ensure_ascii=False, separators=(",", ":"))
+    return hashlib.sha256(text.encode("utf-8", "surrogatepass")).hexdigest()
+
+
+def saved_under(conn, client_id: str) -> bool:
+    """Whether a snippet was saved with ``client_id`` (a form sent again is its repeat, not a duplicate)."""
+    if not client_id:
+        return False
+    return conn.execute("SELECT 1 FROM snippet WHERE client_id = ?", (client_id,)).fetchone() is not None
+
+
+def _saved_under(conn, client_id: str, digest: str) -> dict | None:
+    """The snippet saved with ``client_id`` (in the bin or not), if any; ``IdTaken`` if it held something else."""
+    row = conn.execute("SELECT id, client_digest, deleted_at FROM snippet WHERE client_id = ?", (client_id,)).fetchone()
+    if row is None:
+        return None
+    snippet = get(conn, row["id"], deleted=row["deleted_at"] is not None)
+    if row["client_digest"] != digest:
+        raise IdTaken(snippet)
+    return snippet
+
+
+def create_once(
+    conn, client_id, kind: str, inputs: dict, meta: dict, calculations: dict, *, now: datetime | None = None
+) -> tuple[dict, bool]:
+    """Like ``create``, kept once per ``client_id`` (the sender's id for this save): ``(snippet, created)``.
+
+    The same id with the same contents again gives the snippet saved the first
+    time (``created`` false), even if it was edited since; the same id with other
+    contents raises ``IdTaken``. Without an id every call saves a new snippet.
+    """
+    client_id = check_client_id(client_id)
     kind = check_kind(kind, calculations)
     meta = check_meta(meta)
+    digest = _digest(kind, inputs, meta) if client_id else None
+    if client_id and (found := _saved_under(conn, client_id, digest)) is not None:
+        return found, False  # a repeat: found before the core is asked, so today's core cannot refuse it
     results = compute(kind, inputs, calculations)
     stamp = now_text(now)
     row = {
@@ -347,8 +436,16 @@ def create(conn, kind: str, inputs: dict, meta: dict, calculations: dict, *, now
         "version": 1,
     }
     with transaction(conn):
+        if client_id and (found := _saved_under(conn, client_id, digest)) is not None:
+            return found, False  # sent twice at once: the other request saved it first
         cursor = insert_row(conn, row)
-    return get(conn, cursor.lastrowid)
+        if client_id:
+            conn.execute(
+                "UPDATE snippet SET client_id = ?, client_digest = ? WHERE id = ?",
+                (client_id, digest, cursor.lastrowid),
+            )
+        _record(conn, get(conn, cursor.lastrowid), "saved", row.get("saved_by", ""), stamp)
+    return get(conn, cursor.lastrowid), True
 
 
 def _check_version(version) -> int:
@@ -367,27 +464,32 @@ def update(
     changes: dict,
     *,
     results: dict | None = None,
+    by: str = "",
     now: datetime | None = None,
 ) -> dict:
     """Apply ``changes`` (title, notes, …) made against ``version``; the changed snippet.
 
-    ``results``, when given, replaces the saved results (a re-run kept). Raises
-    ``Conflict`` with the newer snippet if someone changed it meanwhile.
+    ``results``, when given, replaces the saved results (a re-run kept). ``by``
+    is who made the change (shown as "changed by"). The version before is kept.
+    Raises ``Conflict`` with the newer snippet if someone changed it meanwhile.
     """
     version = _check_version(version)
     meta = check_meta(changes, partial=True)
+    by = check_by(by)
+    stamp = now_text(now)
     with transaction(conn):
         current = get(conn, snippet_id)
         if current["version"] != version:
             raise Conflict(current)
+        _record_as_found(conn, current)
         columns = [name for name in META_FIELDS if name in meta and name != "tags"]
         assignments = [f"{name} = ?" for name in columns]
         params = [meta[name] for name in columns]
         if results is not None:
             assignments.append("results = ?")
             params.append(json.dumps(results, ensure_ascii=False))
-        assignments += ["updated_at = ?", "version = version + 1"]
-        params += [now_text(now), snippet_id, version]
+        assignments += ["changed_by = ?", "updated_at = ?", "version = version + 1"]
+        params += [by, stamp, snippet_id, version]
         # The column names come from META_FIELDS, never from the request.
         cursor = conn.execute(
             f"UPDATE snippet SET {', '.join(assignments)} WHERE id = ? AND version = ? AND deleted_at IS NULL",
@@ -397,29 +499,42 @@ def update(
             raise Conflict(get(conn, snippet_id))
         if "tags" in meta:
             _write_tags(conn, snippet_id, meta["tags"])
+        event = "edited" if meta or results is None else "results"
+        _record(conn, get(conn, snippet_id), event, by, stamp)
     return get(conn, snippet_id)
 
 
-def delete(conn, snippet_id: int, version=None, *, now: datetime | None = None) -> dict:
-    """Move the snippet to the bin (refused as a ``Conflict`` if ``version`` is given and stale)."""
+def delete(conn, snippet_id: int, version=None, *, by: str = "", now: datetime | None = None) -> dict:
+    """Move the snippet to the bin (refused as a ``Conflict`` if ``version`` is given and stale);
+    ``by`` is who deleted it (the bin says so)."""
+    by = check_by(by)
+    stamp = now_text(now)
     with transaction(conn):
         current = get(conn, snippet_id)
         if version not in (None, "") and current["version"] != _check_version(version):
             raise Conflict(current)
+        _record_as_found(conn, current)
         conn.execute(
-            "UPDATE snippet SET deleted_at = ?, version = version + 1 WHERE id = ?", (now_text(now), snippet_id)
+            "UPDATE snippet SET deleted_at = ?, deleted_by = ?, version = version + 1 WHERE id = ?",
+            (stamp, by, snippet_id),
         )
+        _record(conn, get(conn, snippet_id, deleted=True), "deleted", by, stamp)
     return get(conn, snippet_id, deleted=True)
 
 
-def restore(conn, snippet_id: int, *, now: datetime | None = None) -> dict:
+def restore(conn, snippet_id: int, *, by: str = "", now: datetime | None = None) -> dict:
     """Take the snippet back out of the bin."""
+    by = check_by(by)
+    stamp = now_text(now)
     with transaction(conn):
-        get(conn, snippet_id, deleted=True)
+        current = get(conn, snippet_id, deleted=True)
+        _record_as_found(conn, current)
         conn.execute(
-            "UPDATE snippet SET deleted_at = NULL, updated_at = ?, version = version + 1 WHERE id = ?",
-            (now_text(now), snippet_id),
+            "UPDATE snippet SET deleted_at = NULL, deleted_by = '', changed_by = ?, updated_at = ?,"
+            " version = version + 1 WHERE id = ?",
+            (by, stamp, snippet_id),
         )
+        _record(conn, get(conn, snippet_id), "restored", by, stamp)
     return get(conn, snippet_id)
 
 
@@ -428,3 +543,136 @@ def purge(conn, now: datetime | None = None) -> int:
     cutoff = now_text((now or datetime.now(UTC)) - timedelta(days=BIN_DAYS))
     with transaction(conn):
         return conn.execute("DELETE FROM snippet WHERE deleted_at IS NOT NULL AND deleted_at < ?", (cutoff,)).rowcount
+
+
+# --- versions and history ---------------------------------------------------------
+
+# What a kept version holds: everything a person or a re-run can change.
+VERSION_FIELDS = (*META_FIELDS, "inputs", "results")
+# How a version came about, as the history page says it.
+EVENTS = {
+    "saved": "saved",
+    "edited": "edited",
+    "results": "today's results kept",
+    "deleted": "moved to the bin",
+    "restored": "taken back out of the bin",
+    "reverted": "an earlier version brought back",
+    "found": "as it was when history began",
+}
+
+
+def check_by(by) -> str:
+    """Who made a change: a name as the "saved by" field takes it (may be empty)."""
+    if by in (None, ""):
+        return ""
+    return check_meta({"saved_by": by}, partial=True)["saved_by"]
+
+
+def _state(snippet: dict) -> dict:
+    return {name: snippet[name] for name in VERSION_FIELDS}
+
+
+def _record(conn, snippet: dict, event: str, by: str, at: str, **extra) -> None:
+    """Keep ``snippet`` as its version (once: a version already kept stays as it was)."""
+    data = {**_state(snippet), "event": event, **extra}
+    conn.execute(
+        "INSERT OR IGNORE INTO snippet_version (snippet_id, version, data, changed_by, changed_at)"
+        " VALUES (?, ?, ?, ?, ?)",
+        (snippet["id"], snippet["version"], json.dumps(data, ensure_ascii=False), by, at),
+    )
+
+
+def _record_as_found(conn, current: dict) -> None:
+    """Before a change: keep the version about to be replaced, if it was made before
+    history was kept (a snippet from an older inkfilm, or imported)."""
+    first = current["version"] == 1
+    by = current["saved_by"] if first else current["changed_by"]
+    _record(conn, current, "saved" if first else "found", by, current["updated_at"])
+
+
+def _version_row(row) -> dict:
+    data = json.loads(row["data"])
+    event = data.pop("event", "edited")
+    restored_from = data.pop("restored_from", None)
+    return {
+        **data,
+        "version": row["version"],
+        "changed_by": row["changed_by"],
+        "changed_at": row["changed_at"],
+        "event": event,
+        "event_text": EVENTS.get(event, event),
+        "restored_from": restored_from,
+    }
+
+
+def _snippet_any(conn, snippet_id: int) -> dict:
+    try:
+        return get(conn, snippet_id)
+    except NotFound:
+        return get(conn, snippet_id, deleted=True)
+
+
+def history(conn, snippet_id: int) -> list[dict]:
+    """Every kept version of the snippet, newest first (the current one too, also in the bin):
+    its fields, inputs and results, ``version``, ``changed_by``, ``changed_at`` and ``event``."""
+    current = _snippet_any(conn, snippet_id)
+    rows = conn.execute(
+        "SELECT * FROM snippet_version WHERE snippet_id = ? ORDER BY version DESC", (snippet_id,)
+    ).fetchall()
+    versions = [_version_row(row) for row in rows]
+    if not versions or versions[0]["version"] != current["version"]:
+        first = current["version"] == 1
+        versions.insert(
+            0,
+            {
+                **_state(current),
+                "version": current["version"],
+                "changed_by": current["saved_by"] if first else current["changed_by"],
+                "changed_at": current["deleted_at"] or current["updated_at"],
+                "event": "saved" if first else "found",
+                "event_text": EVENTS["saved" if first else "found"],
+                "restored_from": None,
+            },
+        )
+    return versions
+
+
+def version_of(conn, snippet_id: int, version) -> dict:
+    """The snippet as it was at ``version`` (``NotFound`` if that version was not kept)."""
+    version = _check_version(version)
+    for kept in history(conn, snippet_id):
+        if kept["version"] == version:
+            return kept
+    raise NotFound(snippet_id)
+
+
+def restore_version(conn, snippet_id: int, old_version, version, *, by: str = "", now: datetime | None = None) -> dict:
+    """Bring back the fields, inputs and results of ``old_version`` as a new version,
+    made against ``version`` (``Conflict`` if that is stale); the version it replaces is kept."""
+    version = _check_version(version)
+    by = check_by(by)
+    stamp = now_text(now)
+    with transaction(conn):
+        current = get(conn, snippet_id)
+        if current["version"] != version:
+            raise Conflict(current)
+        old = version_of(conn, snippet_id, old_version)
+        _record_as_found(conn, current)
+        meta = check_meta({name: old[name] for name in META_FIELDS})
+        columns = [name for name in META_FIELDS if name != "tags"]
+        conn.execute(
+            f"UPDATE snippet SET {', '.join(f'{name} = ?' for name in columns)}, inputs = ?, results = ?,"
+            " changed_by = ?, updated_at = ?, version = version + 1 WHERE id = ? AND version = ?",
+            [
+                *(meta[name] for name in columns),
+                json.dumps(old["inputs"], ensure_ascii=False),
+                json.dumps(old["results"], ensure_ascii=False),
+                by,
+                stamp,
+                snippet_id,
+                version,
+            ],
+        )
+        _write_tags(conn, snippet_id, meta["tags"])
+        _record(conn, get(conn, snippet_id), "reverted", by, stamp, restored_from=old["version"])
+    return get(conn, snippet_id)

@@ -52,11 +52,13 @@ BEGIN
         WHERE rowid = old.snippet_id;
 END;
 
--- The list's filters and sorts over snippets not in the bin. The press and
+-- The list's filters and sorts over snippets not in the bin (newest and oldest
+-- change walk snippet_updated of 0002; job numbers sort empty ones last). The press and
 -- station indexes also give the filter menus their distinct values by a few
 -- index seeks, not a scan of every snippet.
 CREATE INDEX snippet_live_press ON snippet (press, updated_at) WHERE deleted_at IS NULL;
 CREATE INDEX snippet_live_station ON snippet (station, updated_at) WHERE deleted_at IS NULL;
 CREATE INDEX snippet_live_kind ON snippet (kind, updated_at) WHERE deleted_at IS NULL;
 CREATE INDEX snippet_live_title ON snippet (title COLLATE NOCASE, id) WHERE deleted_at IS NULL;
-CREATE INDEX snippet_live_job ON snippet (job_number, updated_at) WHERE deleted_at IS NULL;
+CREATE INDEX snippet_live_job ON snippet (job_number = '', job_number COLLATE NOCASE, station, id)
+    WHERE deleted_at IS NULL;

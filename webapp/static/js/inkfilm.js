@@ -111,24 +111,37 @@
       return result.querySelector("data, .headline") !== null;
     });
   }
-  function showReach(target) {
+  // The converter and the film chain are worked out by the service worker meanwhile ("phone").
+  function worksOffline() {
+    return !!(navigator.serviceWorker && navigator.serviceWorker.controller && document.querySelector("form[data-works-offline]"));
+  }
+  function showReach(target, mode) {
     if (reach) {
-      var shown = resultShown();
+      var when = mode || (worksOffline() ? "phone" : resultShown() ? "result" : "none");
       reach.querySelectorAll("[data-reach-when]").forEach(function (part) {
-        part.hidden = part.getAttribute("data-reach-when") !== (shown ? "result" : "none");
+        part.hidden = part.getAttribute("data-reach-when") !== when;
       });
       reach.hidden = false;
     }
+    document.querySelectorAll("[data-server-only]").forEach(function (note) { note.hidden = false; });
     if (target) target.classList.add("is-stale");
   }
   function hideReach() {
     if (reach) reach.hidden = true;
+    document.querySelectorAll("[data-server-only]").forEach(function (note) { note.hidden = true; });
     document.querySelectorAll(".is-stale").forEach(function (el) { el.classList.remove("is-stale"); });
   }
   document.body.addEventListener("htmx:sendError", function (event) { showReach(event.detail.target); });
   document.body.addEventListener("htmx:timeout", function (event) { showReach(event.detail.target); });
   document.body.addEventListener("htmx:afterRequest", function (event) {
-    if (event.detail.successful) hideReach();
+    if (!event.detail.successful) return;
+    var xhr = event.detail.xhr;
+    if (xhr && xhr.getResponseHeader("X-Inkfilm-Worked-Out") === "phone") showReach(null, "phone");
+    else hideReach();
+  });
+  // The worker works an answer out in the user's units: it cannot read the cookie on every phone.
+  document.body.addEventListener("htmx:configRequest", function (event) {
+    event.detail.headers["X-Inkfilm-Units"] = savedSystem() || "metric";
   });
   window.addEventListener("offline", function () { showReach(null); });
   window.addEventListener("online", function () { refreshResults(); });
@@ -150,12 +163,134 @@
   document.body.addEventListener("htmx:afterSettle", markInvalid);
   markInvalid();
 
+  // --- Job ink estimate (calculators/_estimate_area.html) ---------------------------
+  // While the form is edited the server keeps the last good totals on screen; it needs to
+  // know which event sent the form (a submit makes an empty field an error) and which fields
+  // were left (an empty field that was left is one too). After a station is added, copied
+  // or removed, keyboard focus goes to that station (or the next one), not the footer.
+  var ESTIMATE = "estimate-form";
+  var leftFields = {};
+  function estimateForm(elt) {
+    var form = elt && (elt.tagName === "FORM" ? elt : elt.form);
+    return form && form.id === ESTIMATE ? form : null;
+  }
+  document.body.addEventListener("focusout", function (event) {
+    var field = event.target;
+    var form = estimateForm(field);
+    if (!form || !field.name || field.tagName !== "INPUT" || leftFields[field.name]) return;
+    leftFields[field.name] = true;
+    if (!field.value.trim() && window.htmx) window.htmx.trigger(form, "refresh");
+  });
+  document.body.addEventListener("htmx:configRequest", function (event) {
+    if (!estimateForm(event.detail.elt)) return;
+    var trigger = event.detail.triggeringEvent;
+    event.detail.parameters["_event"] = trigger ? trigger.type : "";
+    event.detail.parameters["_left"] = Object.keys(leftFields).join(" ");
+  });
+  // The rough coverage menu fills in its typical value, which stays editable.
+  document.body.addEventListener("change", function (event) {
+    var menu = event.target;
+    if (!menu.matches || !menu.matches("select[data-typical-for]")) return;
+    var option = menu.options[menu.selectedIndex];
+    var field = document.getElementById(menu.getAttribute("data-typical-for"));
+    var typical = option && option.getAttribute("data-typical");
+    if (field && typical) field.value = typical;
+  });
+  var stationAction = null;
+  document.body.addEventListener("click", function (event) {
+    var button = event.target.closest && event.target.closest('button[name="action"]');
+    if (!button || !estimateForm(button) || !/^(add|copy-|remove-)/.test(button.value)) return;
+    stationAction = { value: button.value, area: document.getElementById("estimate-area") };
+  });
+  document.body.addEventListener("htmx:afterSettle", function () {
+    var area = document.getElementById("estimate-area");
+    if (!stationAction || !area || area === stationAction.area) return;  // the form is not new yet
+    var action = stationAction.value;
+    stationAction = null;
+    Object.keys(leftFields).forEach(function (name) { if (name.indexOf("stations[") === 0) delete leftFields[name]; });
+    var folds = area.querySelectorAll("details.station-fold");
+    if (!folds.length) return;
+    var index = folds.length - 1;  // added or copied: the last one
+    if (action.indexOf("remove-") === 0) index = Math.min(parseInt(action.slice(7), 10) || 0, folds.length - 1);
+    var fold = folds[index];
+    var target = fold.open ? fold.querySelector("fieldset input, fieldset select") : fold.querySelector("summary");
+    if (target) {
+      target.focus({ preventScroll: true });
+      fold.scrollIntoView({ block: "start" });
+    }
+  });
+
   // --- Print --------------------------------------------------------------------
   document.body.addEventListener("click", function (event) {
     if (event.target.closest && event.target.closest("[data-print]")) window.print();
   });
 
+  // --- The outbox (js/outbox.js and idb-keyval), loaded only when needed ---------
+  // Not part of the first load: loaded when a page lists the outbox, when saves wait
+  // on this phone, when "Save this…" is pressed, and once the server has answered a
+  // calculation with a save button (so the service worker keeps it for a save offline).
+  var outboxLink = document.getElementById("outbox-link");
+  var outboxLoad = null;
+  function loadOutbox() {
+    if (!outboxLoad) outboxLoad = new Promise(function (done, fail) {
+      var urls = outboxLink ? outboxLink.getAttribute("data-scripts").split(" ") : [];
+      (function next(i) {
+        if (i === urls.length) return done();
+        var script = document.createElement("script");
+        script.src = urls[i];
+        script.onload = function () { next(i + 1); };
+        script.onerror = fail;
+        document.head.appendChild(script);
+      })(0);
+    });
+    return outboxLoad;
+  }
+  function savesWaiting(then) {
+    // The outbox's own store (idb-keyval's createStore("inkfilm-outbox", "saves")), only counted here.
+    if (!window.indexedDB) return;
+    var ask = indexedDB.databases ? indexedDB.databases() : Promise.resolve([{ name: "inkfilm-outbox" }]);
+    ask.then(function (all) {
+      if (!all.some(function (d) { return d.name === "inkfilm-outbox"; })) return;
+      var open = indexedDB.open("inkfilm-outbox");
+      open.onupgradeneeded = function () { open.result.createObjectStore("saves"); };
+      open.onsuccess = function () {
+        var count = open.result.transaction("saves").objectStore("saves").count();
+        count.onsuccess = function () { open.result.close(); if (count.result) then(); };
+      };
+    }, function () {});
+  }
+  if (outboxLink) {
+    if (document.querySelector("[data-outbox-list], [data-outbox-section]")) loadOutbox();
+    else savesWaiting(loadOutbox);
+    document.addEventListener("submit", function (event) {
+      var form = event.target;
+      if (window.inkfilmOutboxReady || !form.matches("form[data-outbox]")) return;
+      event.preventDefault();
+      // A live answer may replace the pressed form while the scripts load: the press still saves what it showed.
+      function attached() {
+        if (!form.isConnected) { form.hidden = true; document.body.appendChild(form); }
+        return form;
+      }
+      loadOutbox().then(function () { attached().requestSubmit(); }, function () { attached().submit(); });
+    });
+    document.body.addEventListener("htmx:afterRequest", function (event) {
+      var xhr = event.detail.xhr;
+      if (event.detail.successful && !(xhr && xhr.getResponseHeader("X-Inkfilm-Worked-Out"))
+          && document.querySelector("form[data-outbox]")) loadOutbox().catch(function () {});
+    });
+  }
+
   // --- Installable app: the service worker ---------------------------------------
+  // A page drawn by an older build offers a reload when the new build's worker takes over.
+  var controlled = !!(navigator.serviceWorker && navigator.serviceWorker.controller);
+  if (navigator.serviceWorker) navigator.serviceWorker.addEventListener("controllerchange", function () {
+    var note = document.getElementById("new-build");
+    if (controlled && note) note.hidden = false;
+    controlled = true;
+  });
+  document.body.addEventListener("click", function (event) {
+    if (event.target.closest && event.target.closest("[data-reload]")) window.location.reload();
+  });
   if ("serviceWorker" in navigator) {
     // A page opened from the cache shows the numbers it was cached with: ask again.
     if (navigator.serviceWorker.controller) {
