@@ -115,6 +115,8 @@ def _day_bound(name: str, *, next_day: bool = False) -> tuple[str, str, str | No
         day_start = datetime.strptime(text, "%Y-%m-%d")
     except ValueError:
         return text, "", "must be a date (YYYY-MM-DD)"
+    if not api.FIRST_DAY <= day_start.date() <= api.LAST_DAY:
+        return text, "", f"must be a date from {api.FIRST_DAY} to {api.LAST_DAY}"
     if next_day:
         day_start += timedelta(days=1)
     zone = current_app.extensions.get("inkfilm_zone")

@@ -155,7 +155,8 @@ def match_query(q: str) -> str:
     return " ".join(phrases)
 
 
-def _stamp(value: str, field: str) -> str:
+def check_stamp(value: str, field: str) -> str:
+    """``value`` if it is a UTC stamp as ``now_text`` writes (or empty), else an ``InputError`` naming ``field``."""
     value = value or ""
     if not value:
         return ""
@@ -176,8 +177,8 @@ def _filters(press, station, kind, changed_from, changed_before) -> tuple[list[s
         if value:
             where.append(f"s.{column} = ?")
             params.append(value)
-    changed_from = _stamp(changed_from, "changed_from")
-    changed_before = _stamp(changed_before, "changed_before")
+    changed_from = check_stamp(changed_from, "changed_from")
+    changed_before = check_stamp(changed_before, "changed_before")
     if changed_from:
         where.append("s.updated_at >= ?")
         params.append(changed_from)
