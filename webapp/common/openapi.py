@@ -441,12 +441,15 @@ def snippet_paths() -> dict:
         "/snippets/import": {
             "post": {
                 "operationId": "import_snippets",
-                "summary": "Add the snippets of an inkfilm JSON export (those already here are skipped)",
+                "summary": "Add the snippets of an inkfilm export, JSON or CSV (those already here are skipped)",
                 "parameters": GATE_HEADERS,
                 "requestBody": {
                     "required": True,
                     "description": f"an export (up to {exchange.MAX_IMPORT_BYTES // (1024 * 1024)} MiB)",
-                    "content": {JSON: {"schema": {"anyOf": [EXPORT, {"type": "array"}]}}},
+                    "content": {
+                        JSON: {"schema": {"anyOf": [EXPORT, {"type": "array"}]}},
+                        "text/csv": {"schema": {"type": "string", "description": "a CSV export of inkfilm"}},
+                    },
                 },
                 "responses": {
                     "200": json_body(

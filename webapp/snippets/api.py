@@ -309,8 +309,14 @@ def export_csv():
 @bp.post("/import")
 def import_snippets():
     require("supervise")
+    if request.mimetype == "text/csv":
+        return jsonify(exchange.import_csv_stream(get_db(), request.stream))
     if not request.is_json:
-        raise InputError(None, "the request body must be an inkfilm JSON export (Content-Type: application/json)")
+        raise InputError(
+            None,
+            "the request body must be an inkfilm export: JSON (Content-Type: application/json)"
+            " or CSV (Content-Type: text/csv)",
+        )
     try:
         return jsonify(exchange.import_stream(get_db(), request.stream))
     except exchange.NotJSON as exc:

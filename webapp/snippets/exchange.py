@@ -28,6 +28,7 @@ import ijson
 
 from calc import InputError
 from webapp.calculators import CALCULATIONS
+from webapp.common import jsontext
 from webapp.common.db import connect, transaction
 from webapp.common.formatting import is_number, is_quantity, local_time
 from webapp.snippets.rules import check_data, check_kind, check_meta
@@ -101,8 +102,15 @@ def export_stream(path, now: datetime | None = None) -> Iterator[str]:
 
 
 _FORMULA_START = ("=", "+", "-", "@", "\t", "\r")
-# = + - @ right after a separator a spreadsheet may split on (, ; tab |) or a line break.
-_FORMULA_AFTER_SEPARATOR = re.compile(r"([,;\t|\r\n] *)(?=[=+\-@])")
+# = + - @ right after a separator a spreadsheet may split on (, ; tab |) or a line break; quotes
+# already there are counted in, so that the change can be undone exactly (``spreadsheet_text``).
+_FORMULA_AFTER_SEPARATOR = re.compile(r"([,;\t|\r\n] *)(?='*[=+\-@])")
+_MARK_AFTER_SEPARATOR = re.compile(r"([,;\t|\r\n] *)'(?='*[=+\-@])")
+
+
+def _starts_formula(text: str) -> bool:
+    rest = text.lstrip("'")
+    return rest[:1] in _FORMULA_START or rest.lstrip(" ")[:1] in _FORMULA_START
 
 
 def spreadsheet_safe(text: str) -> str:
@@ -111,15 +119,27 @@ def spreadsheet_safe(text: str) -> str:
     A cell starting with ``= + - @``, tab or CR is a formula to a spreadsheet;
     so is any piece after a separator when the sheet splits cells on ``;`` or
     ``|``. Each such piece gets a leading ``'``, which spreadsheets read as
-    "this is text".
+    "this is text" (a piece that starts with quotes and then a formula sign gets one
+    more, so that ``spreadsheet_text`` gives back exactly what was written).
 
     >>> spreadsheet_safe("x;=1+1;"), spreadsheet_safe("=1+1"), spreadsheet_safe("Cyan, process")
     ("x;'=1+1;", "'=1+1", 'Cyan, process')
     """
     text = _FORMULA_AFTER_SEPARATOR.sub(r"\1'", text)
-    if text[:1] in _FORMULA_START or text.lstrip(" ")[:1] in _FORMULA_START:
+    if _starts_formula(text):
         text = "'" + text
     return text
+
+
+def spreadsheet_text(cell: str) -> str:
+    """The text ``spreadsheet_safe`` made ``cell`` from (the marks it added taken off).
+
+    >>> spreadsheet_text("x;'=1+1;"), spreadsheet_text("''=1"), spreadsheet_text("it's")
+    ('x;=1+1;', "'=1", "it's")
+    """
+    if cell[:1] == "'" and _starts_formula(cell[1:]):
+        cell = cell[1:]
+    return _MARK_AFTER_SEPARATOR.sub(r"\1", cell)
 
 
 # The figure a snippet is saved for, by kind (else the first quantity of the results):
@@ -180,7 +200,7 @@ def _csv_pieces(conn, zone=None) -> Iterator[str]:
     number and unit columns and the times in ``zone`` (``None``: the server's own).
 
     Every text cell is quoted and made inert (``spreadsheet_safe``); ``import_csv_stream``
-    reads such a file back.
+    reads such a file back (``spreadsheet_text`` undoes the marks).
     """
     out = io.StringIO()
     writer = csv.writer(out, quoting=csv.QUOTE_NONNUMERIC)
@@ -269,7 +289,24 @@ def import_stream(conn, stream, calculations: dict | None = None) -> dict:
     return _add_all(conn, _stream_items(_opened(stream)), calculations)
 
 
-def _add_all(conn, items: Iterable, calculations: dict | None) -> dict:
+def _json_place(index: int) -> str:
+    return f"snippets[{index}]"
+
+
+def _csv_place(index: int) -> str:
+    return f"row {index + 2}"  # as a spreadsheet numbers them: the header is row 1
+
+
+def _placed(exc: InputError, index: int, place) -> InputError:
+    """An error of ``_check_import_item`` (named ``snippets[i]…``) named by ``place`` instead."""
+    prefix = _json_place(index)
+    if place is _json_place or not exc.field or not exc.field.startswith(prefix):
+        return exc
+    rest = exc.field[len(prefix) :].lstrip(".")
+    return InputError(f"{place(index)}, {rest}" if rest else place(index), exc.message)
+
+
+def _add_all(conn, items: Iterable, calculations: dict | None, place=_json_place) -> dict:
     calculations = CALCULATIONS if calculations is None else calculations
     added = count = 0
     with transaction(conn):
@@ -280,13 +317,18 @@ def _add_all(conn, items: Iterable, calculations: dict | None) -> dict:
             for index, item in enumerate(items):
                 if index >= MAX_IMPORT:
                     raise InputError("snippets", f"at most {MAX_IMPORT:,} snippets in one import")
-                row = _check_import_item(item, index, calculations)
+                try:
+                    row = _check_import_item(item, index, calculations)
+                except InputError as exc:
+                    raise _placed(exc, index, place) from None
                 try:
                     conn.execute("INSERT INTO temp.import_seen VALUES (?, ?)", (row["uid"], index))
                 except sqlite3.IntegrityError:
                     first = conn.execute("SELECT at FROM temp.import_seen WHERE uid = ?", (row["uid"],)).fetchone()[0]
-                    raise InputError(
-                        f"snippets[{index}].uid", f"repeats the uid of snippets[{first}]: each snippet once"
+                    raise _placed(
+                        InputError(f"snippets[{index}].uid", f"repeats the uid of {place(first)}: each snippet once"),
+                        index,
+                        place,
                     ) from None
                 if insert_row(conn, row).rowcount == 1:
                     added += 1
@@ -294,6 +336,87 @@ def _add_all(conn, items: Iterable, calculations: dict | None) -> dict:
         finally:
             conn.execute("DROP TABLE temp.import_seen")
     return {"added": added, "already_here": count - added}
+
+
+# The columns a CSV import needs; the others of an export (id, the headline and local times) are
+# worked out again, and columns a spreadsheet added are left out.
+CSV_NEEDED = ("uid", "kind", "title", "inputs", "results", "created_at", "updated_at")
+CSV_READ = tuple(name for name in EXPORT_FIELDS)
+
+
+def import_csv_stream(conn, stream, calculations: dict | None = None) -> dict:
+    """Add the snippets of a CSV file that ``export_csv`` wrote (perhaps saved again by a
+    spreadsheet: with or without the byte-order mark, cells quoted or not, ``;`` between them),
+    read from the binary ``stream`` as it arrives. Same rules as ``import_stream``: snippets
+    already here (same ``uid``) are left, and a bad row anywhere adds nothing; an error names
+    the row (as a spreadsheet numbers them) and the column."""
+    return _add_all(conn, _csv_items(_opened(stream)), calculations, place=_csv_place)
+
+
+def import_any(conn, stream, filename: str = "", calculations: dict | None = None) -> dict:
+    """``import_stream`` or ``import_csv_stream`` for an upload: by its name (``.json``, ``.csv``,
+    either with ``.gz``), else by what the file holds."""
+    source = _opened(stream)
+    name = filename.lower().removesuffix(".gz")
+    head = source.peek(64)[:64].lstrip()
+    if name.endswith(".json") or (not name.endswith(".csv") and (head[:1] in (b"{", b"[") or not head)):
+        return _add_all(conn, _stream_items(source), calculations)
+    return _add_all(conn, _csv_items(source), calculations, place=_csv_place)
+
+
+def _csv_items(source) -> Iterator[dict]:
+    """The snippets of a CSV export, one dict per row, as ``_check_import_item`` takes them."""
+    text = io.TextIOWrapper(source, encoding="utf-8", newline="")
+    row_number = 1
+    try:
+        first = text.readline()
+        delimiter = ";" if ";" in first and "," not in first else ","
+        header = next(csv.reader([first], delimiter=delimiter), [])
+        header = [name.strip().lstrip("\ufeff") for name in header]
+        if not any(header):
+            raise InputError("row 1", "is empty: an inkfilm CSV export starts with its column names")
+        for name in CSV_NEEDED:
+            if name not in header:
+                raise InputError(
+                    "row 1", f"has no column {name} (an inkfilm export has {', '.join(['id', *EXPORT_FIELDS])})"
+                )
+        for name in header:
+            if name and header.count(name) > 1:
+                raise InputError("row 1", f"has the column {name} twice")
+        columns = {name: header.index(name) for name in CSV_READ if name in header}
+        for cells in csv.reader(text, delimiter=delimiter):
+            row_number += 1
+            if not any(cell.strip() for cell in cells):
+                continue  # an empty line (spreadsheets add some at the end)
+            if len(cells) != len(header):
+                raise InputError(f"row {row_number}", f"has {len(cells)} cells; the header has {len(header)}")
+            yield _csv_item(cells, columns, row_number)
+    except UnicodeDecodeError:
+        raise InputError(f"row {row_number + 1}", "is not UTF-8 text (save the file as CSV UTF-8)") from None
+    except csv.Error as exc:
+        raise InputError(f"row {row_number + 1}", f"is not CSV an export gives ({exc})") from None
+
+
+def _csv_item(cells: list[str], columns: dict, row_number: int) -> dict:
+    item: dict = {}
+    for name, at in columns.items():
+        value = spreadsheet_text(cells[at])
+        if name in ("inputs", "results"):
+            try:
+                value = jsontext.loads(value)
+            except InputError as exc:
+                raise InputError(f"row {row_number}, {name}", exc.message) from None
+            except ValueError as exc:
+                raise InputError(f"row {row_number}, {name}", f"is not the JSON an export gives ({exc})") from None
+        elif name == "version":
+            value = value.strip()
+            if not value:
+                continue
+            value = int(value) if re.fullmatch(r"[0-9]{1,16}", value) else value
+        elif name in ("created_at", "updated_at", "uid", "kind"):
+            value = value.strip()
+        item[name] = value
+    return item
 
 
 class _Reader(io.RawIOBase):

@@ -739,13 +739,15 @@ def import_page():
     if upload is None or not upload.filename:
         return render_template("snippets/import.html", errors={"file": "Choose an export file first."}), 400
     try:
-        counts = exchange.import_stream(get_db(), upload.stream)
+        counts = exchange.import_any(get_db(), upload.stream, upload.filename or "")
     except InputError as exc:
         where = f"{exc.field}: " if exc.field else ""
         error = f"Nothing was imported. {where}{exc.message}."
         return render_template("snippets/import.html", errors={"file": error}), 400
     except ValueError as exc:
-        error = f"Nothing was imported. This file is not JSON ({exc}); choose a file that inkfilm exported as JSON."
+        error = (
+            f"Nothing was imported. This file is not JSON ({exc}); choose a file that inkfilm exported (JSON or CSV)."
+        )
         return render_template("snippets/import.html", errors={"file": error}), 400
     flash(f"Imported {counts['added']} snippets; {counts['already_here']} were here already.")
     return redirect(url_for("snippets.index"), code=303)
