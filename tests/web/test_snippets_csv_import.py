@@ -347,3 +347,55 @@ def test_an_upload_without_a_telling_name_is_read_by_what_it_holds(tmp_path, exp
     form = {"csrf_token": csrf_from(other), "file": (io.BytesIO(gzip.compress(export)), "backup")}
     assert other.post("/snippets/import", data=form, content_type="multipart/form-data").status_code == 303
     assert other.get(URL).get_json()["total"] == len(made)
+
+
+# --- the JSON import's quick reading --------------------------------------------------------------
+
+
+def test_an_export_read_quickly_gives_what_the_careful_reading_gives(tmp_path, exported):
+    made, _ = exported
+    source = new_app(tmp_path, "source")
+    raw = source.test_client().get(f"{URL}/export").get_data()
+    assert raw.startswith(b'{"format": "inkfilm-snippets"')
+    assert exchange._laid_out_as_export(raw[: exchange._HEAD_BYTES]) == "snippets.item"
+    quick = list(exchange._json_items(io.BufferedReader(io.BytesIO(raw))))
+    careful = list(exchange._stream_items(io.BufferedReader(io.BytesIO(raw))))
+    assert quick == careful and len(quick) == len(made)
+    bare = json.dumps(json.loads(raw)["snippets"]).encode()
+    assert exchange._laid_out_as_export(bare) == "item"
+    assert list(exchange._json_items(io.BufferedReader(io.BytesIO(bare)))) == careful
+    # Another layout is read carefully: format after the list, or another format.
+    later = json.dumps({"snippets": json.loads(raw)["snippets"], "format": "other"}).encode()
+    assert exchange._laid_out_as_export(later) is None
+    with pytest.raises(InputError) as info:
+        list(exchange._json_items(io.BufferedReader(io.BytesIO(later))))
+    assert info.value.field == "format"
+    # A cut export names the snippet it stopped in, and nothing is added.
+    target = new_app(tmp_path, "target").test_client()
+    cut = target.post(f"{URL}/import", data=raw[: len(raw) // 2], content_type="application/json")
+    field = error_of(cut)["field"]
+    assert field.startswith("snippets[") and 0 < int(field[9:].split("]")[0]) < len(made)
+    assert target.get(URL).get_json()["total"] == 0
+    # Imported twice: nothing the second time, and the search index holds each once.
+    for added in (len(made), 0):
+        assert target.post(f"{URL}/import", data=raw, content_type="application/json").get_json()["added"] == added
+    assert target.get(f"{URL}?q=repeat").get_json()["total"] == len(made)
+    assert target.get(f"{URL}?q=sum").get_json()["total"] == 1
+
+
+def test_the_search_triggers_are_back_after_an_import_that_worked_or_failed(tmp_path, exported):
+    made, body = exported
+    target = new_app(tmp_path, "target")
+    client = target.test_client()
+    with opened(target) as conn:
+        triggers = conn.execute(exchange._SEARCH_TRIGGERS).fetchall()
+    assert len(triggers) == 5
+    error_of(post_csv(client, _edited(body, 3, "kind", "flim")))
+    assert post_csv(client, body).get_json()["added"] == len(made)
+    with opened(target) as conn:
+        assert conn.execute(exchange._SEARCH_TRIGGERS).fetchall() == triggers
+        searched = conn.execute("SELECT count(*) FROM snippet_search").fetchone()[0]
+    assert searched == len(made)
+    saved = client.post(URL, json={"kind": "film", "inputs": FILM, "title": "Violet after import", "tags": ["late"]})
+    assert saved.status_code == 201
+    assert [s["title"] for s in client.get(f"{URL}?q=violet late").get_json()["snippets"]] == ["Violet after import"]

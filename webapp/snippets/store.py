@@ -379,6 +379,47 @@ def insert_row(conn, row: dict):
     return cursor
 
 
+def insert_rows(conn, rows: list[dict]) -> int:
+    """Insert the snippets of ``rows`` (as ``insert_row`` takes them) whose ``uid`` is not here yet,
+    in one statement, and their tags in another; how many were new. The uids of ``rows`` differ."""
+    if not rows:
+        return 0
+    uids = [row["uid"] for row in rows]
+    here = {
+        found for (found,) in conn.execute(f"SELECT uid FROM snippet WHERE uid IN ({', '.join('?' * len(uids))})", uids)
+    }
+    new = [row for row in rows if row["uid"] not in here]
+    conn.executemany(
+        "INSERT INTO snippet (uid, kind, title, job_number, press, station, notes, saved_by, changed_by,"
+        " inputs, results, created_at, updated_at, version) VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)",
+        [_row_values(row) for row in new],
+    )
+    conn.executemany(
+        "INSERT INTO snippet_tag (snippet_id, tag) SELECT id, ? FROM snippet WHERE uid = ?",
+        [(tag, row["uid"]) for row in new for tag in row.get("tags", [])],
+    )
+    return len(new)
+
+
+def _row_values(row: dict) -> tuple:
+    return (
+        row["uid"],
+        row["kind"],
+        row["title"],
+        row.get("job_number", ""),
+        row.get("press", ""),
+        row.get("station", ""),
+        row.get("notes", ""),
+        row.get("saved_by", ""),
+        row.get("changed_by", ""),
+        json.dumps(row["inputs"], ensure_ascii=False),
+        json.dumps(row["results"], ensure_ascii=False),
+        row["created_at"],
+        row["updated_at"],
+        row["version"],
+    )
+
+
 def create(conn, kind: str, inputs: dict, meta: dict, calculations: dict, *, now: datetime | None = None) -> dict:
     """Work out ``inputs`` with today's core and save it with ``meta``; the new snippet."""
     return create_once(conn, None, kind, inputs, meta, calculations, now=now)[0]
