@@ -358,6 +358,8 @@ def test_an_export_read_quickly_gives_what_the_careful_reading_gives(tmp_path, e
     raw = source.test_client().get(f"{URL}/export").get_data()
     assert raw.startswith(b'{"format": "inkfilm-snippets"')
     assert exchange._laid_out_as_export(raw[: exchange._HEAD_BYTES]) == "snippets.item"
+    assert exchange._laid_out_as_export(raw[: len(raw) // 2]) == "snippets.item"  # a head ends mid-snippet
+    assert exchange._laid_out_as_export(b"[" + raw[raw.index(b"{", 2) : len(raw) // 2]) == "item"
     quick = list(exchange._json_items(io.BufferedReader(io.BytesIO(raw))))
     careful = list(exchange._stream_items(io.BufferedReader(io.BytesIO(raw))))
     assert quick == careful and len(quick) == len(made)

@@ -292,7 +292,7 @@ def import_stream(conn, stream, calculations: dict | None = None) -> dict:
     results that could not be kept or shown), a uid twice in the file, a file that is not
     JSON or ends early, and none is added (``InputError`` naming the place, or ``NotJSON``).
     """
-    return _add_all(conn, _stream_items(_opened(stream)), calculations)
+    return _add_all(conn, _json_items(_opened(stream)), calculations)
 
 
 def _json_place(index: int) -> str:
@@ -511,7 +511,9 @@ def _laid_out_as_export(head: bytes) -> str | None:
     ``head``, the start of the file, shows that layout; else ``None``."""
     format_seen = False
     try:
-        for prefix, event, value in ijson.parse(io.BytesIO(head)):
+        # Small pieces: the C parser gives a piece's events only once the whole piece parsed, and
+        # the head ends in the middle of a snippet.
+        for prefix, event, value in ijson.parse(io.BytesIO(head), buf_size=256):
             if prefix == "":
                 if event == "start_array":
                     return "item"
@@ -530,7 +532,9 @@ def _laid_out_as_export(head: bytes) -> str | None:
 
 def _quick_items(source, prefix: str) -> Iterator:
     count = 0
-    items = ijson.items(source, prefix, use_float=False)
+    # Floats as floats: an export never holds a number past a float's range (it would be a
+    # parse error here, naming the snippet).
+    items = ijson.items(source, prefix, use_float=True)
     while True:
         try:
             item = next(items)
@@ -542,7 +546,7 @@ def _quick_items(source, prefix: str) -> Iterator:
                 f"snippets[{count}]", f"is not JSON an export gives ({reason}); nothing was imported"
             ) from None
         count += 1
-        yield _floats(item)
+        yield item
 
 
 def _stream_items(source) -> Iterator:
