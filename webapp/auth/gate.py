@@ -64,7 +64,9 @@ def form_gate(action: str) -> tuple[str | None, int]:
 
 def api_gate(action: str) -> None:
     """For the JSON API: return if the sender may do ``action``; else raise ``WebError``."""
-    if request.method in ("POST", "PUT", "PATCH") and not request.is_json:
+    from webapp.common.jsonapi import sends_json
+
+    if request.method in ("POST", "PUT", "PATCH") and not sends_json():
         raise WebError(None, "send the body as JSON (Content-Type: application/json)", 415)
     if passcodes.allowed(action, "reader"):
         return  # no passcode guards this: a passcode sent anyway is not checked

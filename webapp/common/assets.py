@@ -171,7 +171,8 @@ def init_app(app) -> None:
 
     from webapp.common.security import STATIC_HEADERS
 
-    Compress(app)
+    # Exports stream; CSV is compressed on the wire as JSON is.
+    Compress(app).compress_mimetypes_set.add("text/csv")
     app.after_request(prepare_static)
     app.add_template_global(asset)
     version = _build_version(app.root_path)

@@ -15,6 +15,7 @@ import contextlib
 import errno
 import os
 import sqlite3
+import threading
 from pathlib import Path
 
 from flask import current_app, g
@@ -60,14 +61,38 @@ class NewerDatabaseError(RuntimeError):
     """The file was written by a newer inkfilm than this one."""
 
 
+# One lock per database file for the writers of this process. Waiting on SQLite's busy handler
+# means sleeping in steps of up to 100 ms and trying again, so queued writers leave the file idle
+# between them; waiting here, the next writer starts the moment the last one commits. The busy
+# timeout still covers writers in other processes (a backup, the command line).
+_WRITE_LOCKS: dict[str, threading.Lock] = {}
+_WRITE_LOCKS_GUARD = threading.Lock()
+
+
+def _write_lock(path) -> threading.Lock:
+    key = os.path.abspath(os.fspath(path))
+    with _WRITE_LOCKS_GUARD:
+        return _WRITE_LOCKS.setdefault(key, threading.Lock())
+
+
+class Connection(sqlite3.Connection):
+    """A ``sqlite3`` connection that knows the write lock of its file."""
+
+    write_lock: threading.Lock
+
+
 def connect(path: str | os.PathLike) -> sqlite3.Connection:
     """A connection with the house settings; the caller closes it.
 
     Autocommit mode: writers open their own ``BEGIN IMMEDIATE`` transaction
     (see ``transaction``) so two writers queue at the start instead of
-    deadlocking halfway.
+    deadlocking halfway; readers never open a write transaction, and in WAL
+    mode they never wait for a writer.
     """
-    conn = sqlite3.connect(path, timeout=BUSY_TIMEOUT_S, isolation_level=None, check_same_thread=False)
+    conn = sqlite3.connect(
+        path, timeout=BUSY_TIMEOUT_S, isolation_level=None, check_same_thread=False, factory=Connection
+    )
+    conn.write_lock = _write_lock(path)
     conn.row_factory = sqlite3.Row
     conn.execute("PRAGMA foreign_keys = ON")
     # FULL: a save the server has answered survives a power cut, not only a crash.
@@ -81,16 +106,42 @@ def transaction(conn: sqlite3.Connection):
 
     The error that stopped the block is the one raised: on a full disk SQLite
     may have rolled back already, and a failing ``ROLLBACK`` must not hide why.
+    Writers of this process queue on the file's lock first (see ``_WRITE_LOCKS``).
     """
-    conn.execute("BEGIN IMMEDIATE")
+    lock = getattr(conn, "write_lock", None)
+    if lock is not None and not lock.acquire(timeout=BUSY_TIMEOUT_S):
+        raise sqlite3.OperationalError("database is locked")
+    try:
+        conn.execute("BEGIN IMMEDIATE")
+        try:
+            yield conn
+            conn.execute("COMMIT")
+        except BaseException:
+            if conn.in_transaction:
+                with contextlib.suppress(sqlite3.Error):
+                    conn.execute("ROLLBACK")
+            raise
+    finally:
+        if lock is not None:
+            lock.release()
+
+
+@contextlib.contextmanager
+def snapshot(conn: sqlite3.Connection):
+    """A read transaction: every query in the block sees the same state of the file.
+
+    It takes no write lock (``BEGIN DEFERRED`` and only reads), so writers go on meanwhile.
+    """
+    if conn.in_transaction:
+        yield conn
+        return
+    conn.execute("BEGIN")
     try:
         yield conn
-        conn.execute("COMMIT")
-    except BaseException:
+    finally:
         if conn.in_transaction:
             with contextlib.suppress(sqlite3.Error):
-                conn.execute("ROLLBACK")
-        raise
+                conn.execute("COMMIT")
 
 
 # --- a disk that cannot be written --------------------------------------------------------------

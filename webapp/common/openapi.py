@@ -266,8 +266,11 @@ LISTING = {
         "total": {"type": "integer", "minimum": 0},
         "limit": {"type": "integer"},
         "offset": {"type": "integer"},
+        "page": {"type": "integer", "minimum": 1},
+        "pages": {"type": "integer", "minimum": 1},
+        "order": {"type": "string"},
     },
-    "required": ["snippets", "total", "limit", "offset"],
+    "required": ["snippets", "total", "limit", "offset", "page", "pages", "order"],
 }
 CONFLICT = {
     "409": json_body(
@@ -285,6 +288,36 @@ def query(name: str, schema: dict, description: str) -> dict:
     return {"name": name, "in": "query", "required": False, "description": description, "schema": schema}
 
 
+def list_parameters() -> list[dict]:
+    """The list's query parameters, from ``webapp.snippets.api.LIST_QUERY`` (what ``list_query`` checks)."""
+    parameters = []
+    for name, spec in snippets_api.LIST_QUERY.items():
+        kind = spec["kind"]
+        if kind == "text":
+            schema = {"type": "string", "maxLength": spec["max"]}
+        elif kind == "choice":
+            schema = {"type": "string", "enum": list(spec["choices"])}
+        elif kind == "day":
+            schema = {
+                "type": "string",
+                "format": "date",
+                "pattern": r"^[0-9]{4}-[0-9]{2}-[0-9]{2}$",
+                "examples": ["2024-05-01"],
+            }
+        elif kind == "time":
+            schema = {
+                "type": "string",
+                "pattern": r"^[0-9]{4}-[0-9]{2}-[0-9]{2}T[0-9]{2}:[0-9]{2}:[0-9]{2}Z$",
+                "examples": ["2024-05-01T00:00:00Z"],
+            }
+        else:
+            schema = {"type": "integer", "minimum": spec["min"], "maximum": spec["max"]}
+        if "default" in spec:
+            schema["default"] = spec["default"]
+        parameters.append(query(name, schema, spec["description"]))
+    return parameters
+
+
 BY_PARAMETER = query(
     snippets_api.BY_QUERY,
     {"type": "string", "maxLength": rules.LIMITS["saved_by"]},
@@ -298,14 +331,8 @@ def snippet_paths() -> dict:
         "/snippets": {
             "get": {
                 "operationId": "list_snippets",
-                "summary": "Saved calculations, newest first; search and filter",
-                "parameters": [
-                    query("q", {"type": "string"}, "words to look for in the title, job number, notes and tags"),
-                    query("press", {"type": "string"}, "only this press"),
-                    query("kind", {"type": "string"}, "only this kind of calculation"),
-                    query("limit", {"type": "integer", "minimum": 1, "maximum": 500, "default": 50}, "at most"),
-                    query("offset", {"type": "integer", "minimum": 0, "maximum": 10**9, "default": 0}, "skip"),
-                ],
+                "summary": "Saved calculations, newest first; search, filter, sort and page as the Saved page does",
+                "parameters": list_parameters(),
                 "responses": {"200": json_body(LISTING), "400": REFUSALS["400"]},
             },
             "post": {
@@ -414,12 +441,15 @@ def snippet_paths() -> dict:
         "/snippets/import": {
             "post": {
                 "operationId": "import_snippets",
-                "summary": "Add the snippets of an inkfilm JSON export (those already here are skipped)",
+                "summary": "Add the snippets of an inkfilm export, JSON or CSV (those already here are skipped)",
                 "parameters": GATE_HEADERS,
                 "requestBody": {
                     "required": True,
                     "description": f"an export (up to {exchange.MAX_IMPORT_BYTES // (1024 * 1024)} MiB)",
-                    "content": {JSON: {"schema": {"anyOf": [EXPORT, {"type": "array"}]}}},
+                    "content": {
+                        JSON: {"schema": {"anyOf": [EXPORT, {"type": "array"}]}},
+                        "text/csv": {"schema": {"type": "string", "description": "a CSV export of inkfilm"}},
+                    },
                 },
                 "responses": {
                     "200": json_body(

@@ -115,6 +115,8 @@ def _day_bound(name: str, *, next_day: bool = False) -> tuple[str, str, str | No
         day_start = datetime.strptime(text, "%Y-%m-%d")
     except ValueError:
         return text, "", "must be a date (YYYY-MM-DD)"
+    if not api.FIRST_DAY <= day_start.date() <= api.LAST_DAY:
+        return text, "", f"must be a date from {api.FIRST_DAY} to {api.LAST_DAY}"
     if next_day:
         day_start += timedelta(days=1)
     zone = current_app.extensions.get("inkfilm_zone")
@@ -716,12 +718,8 @@ def restore(snippet_id: int):
 
 @bp.get("/snippets/export.json")
 def export_json():
-    body = json.dumps(exchange.export_all(get_db()), ensure_ascii=False, indent=1)
-    return Response(
-        body,
-        mimetype="application/json",
-        headers={"Content-Disposition": 'attachment; filename="inkfilm-snippets.json"'},
-    )
+    # The same file as the API's export, streamed.
+    return api.export_json()
 
 
 @bp.get("/snippets/export.csv")
@@ -741,14 +739,15 @@ def import_page():
     if upload is None or not upload.filename:
         return render_template("snippets/import.html", errors={"file": "Choose an export file first."}), 400
     try:
-        data = jsontext.loads(upload.read())
-        counts = exchange.import_all(get_db(), data)
+        counts = exchange.import_any(get_db(), upload.stream, upload.filename or "")
     except InputError as exc:
         where = f"{exc.field}: " if exc.field else ""
         error = f"Nothing was imported. {where}{exc.message}."
         return render_template("snippets/import.html", errors={"file": error}), 400
-    except ValueError:
-        error = "This file is not JSON; choose a file that inkfilm exported as JSON."
+    except ValueError as exc:
+        error = (
+            f"Nothing was imported. This file is not JSON ({exc}); choose a file that inkfilm exported (JSON or CSV)."
+        )
         return render_template("snippets/import.html", errors={"file": error}), 400
     flash(f"Imported {counts['added']} snippets; {counts['already_here']} were here already.")
     return redirect(url_for("snippets.index"), code=303)

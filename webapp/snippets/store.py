@@ -18,14 +18,14 @@ import uuid
 from datetime import UTC, datetime, timedelta
 
 from calc import InputError
-from webapp.common.db import MAX_ID, transaction
+from webapp.common.db import MAX_ID, snapshot, transaction
 from webapp.common.jsontext import has_lone_surrogate
 from webapp.snippets.rules import META_FIELDS, check_client_id, check_kind, check_meta, compute
 
 BIN_DAYS = 30
 # A version counts changes; the largest one taken keeps clear of SQLite's integers.
 MAX_VERSION = 10**15
-# Search: SQLite refuses LIKE patterns over 50,000 bytes; no word a person types is this long.
+# Search: at most this many words of at most this many characters are looked for.
 MAX_WORDS = 10
 MAX_WORD = 100
 
@@ -118,17 +118,74 @@ def get(conn, snippet_id: int, *, deleted: bool = False) -> dict:
     return _row_to_snippet(conn, row)
 
 
-def _like(word: str) -> str:
-    return "%" + word.replace("\\", "\\\\").replace("%", "\\%").replace("_", "\\_") + "%"
-
-
-# The orders the Saved list offers; the SQL comes from here, never from the request.
+# The orders the Saved list offers; the SQL comes from here, never from the request. Each has
+# an index that walks it (migration snippet_search): newest/oldest ``snippet_updated``,
+# title ``snippet_live_title``, job ``snippet_live_job``.
 ORDERS = {
     "newest": "s.updated_at DESC, s.id DESC",
     "oldest": "s.updated_at, s.id",
     "title": "s.title COLLATE NOCASE, s.id",
     "job": "s.job_number = '', s.job_number COLLATE NOCASE, s.station, s.id",
 }
+# Above this many matches a page is found by walking the sort order and keeping the matches;
+# below it, by fetching the matches and sorting them.
+_WALK_ABOVE = 3_000
+_WORD_PIECES = re.compile(r"[^\W_]+")
+_STAMP = re.compile(r"[0-9]{4}-[0-9]{2}-[0-9]{2}T[0-9]{2}:[0-9]{2}:[0-9]{2}Z")
+
+
+def match_query(q: str) -> str:
+    """The FTS5 query for what a person typed: every word, each found whole or by its start.
+
+    Only letters and digits reach FTS5, each word as one quoted phrase, so no text
+    can be read as FTS5's own syntax (``AND``, ``NEAR``, ``*``, quotes, column names).
+    A one-letter word is matched whole (as a prefix it would match nearly everything).
+    ``""`` when nothing searchable was typed.
+
+    >>> match_query('24-01 Cyan "x" OR')
+    '"24 01"* "cyan"* "x" "or"*'
+    """
+    phrases = []
+    for word in (q or "").split()[:MAX_WORDS]:
+        pieces = _WORD_PIECES.findall(word[:MAX_WORD].lower())
+        if not pieces:
+            continue
+        phrase = '"' + " ".join(pieces) + '"'
+        phrases.append(phrase + "*" if len(pieces) > 1 or len(pieces[0]) > 1 else phrase)
+    return " ".join(phrases)
+
+
+def check_stamp(value: str, field: str) -> str:
+    """``value`` if it is a UTC stamp as ``now_text`` writes (or empty), else an ``InputError`` naming ``field``."""
+    value = value or ""
+    if not value:
+        return ""
+    try:
+        if not isinstance(value, str) or not _STAMP.fullmatch(value):
+            raise ValueError(value)
+        datetime.strptime(value, "%Y-%m-%dT%H:%M:%SZ")
+    except ValueError:
+        raise InputError(field, "must be a UTC time such as 2024-05-01T00:00:00Z") from None
+    return value
+
+
+def _filters(press, station, kind, changed_from, changed_before) -> tuple[list[str], list]:
+    """The WHERE terms (beside ``deleted_at IS NULL``) of the list's filters, and their parameters."""
+    where: list[str] = []
+    params: list = []
+    for column, value in (("press", press), ("station", station), ("kind", kind)):
+        if value:
+            where.append(f"s.{column} = ?")
+            params.append(value)
+    changed_from = check_stamp(changed_from, "changed_from")
+    changed_before = check_stamp(changed_before, "changed_before")
+    if changed_from:
+        where.append("s.updated_at >= ?")
+        params.append(changed_from)
+    if changed_before:
+        where.append("s.updated_at < ?")
+        params.append(changed_before)
+    return where, params
 
 
 def search(
@@ -144,43 +201,87 @@ def search(
     limit: int = 50,
     offset: int = 0,
 ):
-    """Snippets (newest change first, or another of ``ORDERS``) whose title, job number, notes or
-    tags hold every word of ``q``; ``changed_from`` / ``changed_before`` are UTC stamps
-    (``now_text``) bounding the last change.
+    """Snippets not in the bin whose title, job number, notes or tags hold every word of ``q``
+    (whole, or as the start of a word), filtered by press, station and kind and by the time of
+    their last change (``changed_from`` inclusive, ``changed_before`` exclusive: UTC stamps as
+    ``now_text`` gives), in the order ``order`` (a key of ``ORDERS``; another is an
+    ``InputError`` naming ``order``).
 
-    Returns ``(snippets, total)``: one page and the number of all matches.
+    Returns ``(snippets, total)``: one page and the number of all matches, both from one
+    snapshot of the file. Words go to the FTS5 index ``snippet_search`` (see ``match_query``).
     """
-    where = ["s.deleted_at IS NULL"]
-    params: list = []
-    for word in (q or "").split()[:MAX_WORDS]:
-        pattern = _like(word[:MAX_WORD])
-        where.append(
-            "(s.title LIKE ? ESCAPE '\\' OR s.job_number LIKE ? ESCAPE '\\' OR s.notes LIKE ? ESCAPE '\\'"
-            " OR EXISTS (SELECT 1 FROM snippet_tag t WHERE t.snippet_id = s.id AND t.tag LIKE ? ESCAPE '\\'))"
-        )
-        params += [pattern] * 4
-    if press:
-        where.append("s.press = ?")
-        params.append(press)
-    if kind:
-        where.append("s.kind = ?")
-        params.append(kind)
-    if station:
-        where.append("s.station = ?")
-        params.append(station)
-    if changed_from:
-        where.append("s.updated_at >= ?")
-        params.append(changed_from)
-    if changed_before:
-        where.append("s.updated_at < ?")
-        params.append(changed_before)
-    condition = " AND ".join(where)
-    total = conn.execute(f"SELECT count(*) FROM snippet s WHERE {condition}", params).fetchone()[0]
-    rows = conn.execute(
-        f"SELECT s.* FROM snippet s WHERE {condition} ORDER BY {ORDERS.get(order, ORDERS['newest'])} LIMIT ? OFFSET ?",
-        [*params, limit, offset],
-    ).fetchall()
-    return rows_to_snippets(conn, rows), total
+    sql_order = ORDERS.get(order) if isinstance(order, str) else None
+    if sql_order is None:
+        raise InputError("order", f"must be one of: {', '.join(ORDERS)}")
+    where, params = _filters(press, station, kind, changed_from, changed_before)
+    match = match_query(q)
+    if (q or "").strip() and not match:
+        return [], 0  # only signs typed (``_``, ``%``): nothing holds them as a word
+    limit, offset = max(0, int(limit)), max(0, int(offset))
+    with snapshot(conn):
+        if match:
+            if where:
+                total = conn.execute(
+                    "SELECT count(*) FROM snippet s WHERE s.deleted_at IS NULL AND "
+                    "s.id IN (SELECT rowid FROM snippet_search WHERE snippet_search MATCH ?) AND "
+                    + " AND ".join(where),
+                    [match, *params],
+                ).fetchone()[0]
+            else:
+                # The index holds no snippet of the bin: its count is the answer.
+                total = conn.execute(
+                    "SELECT count(*) FROM snippet_search WHERE snippet_search MATCH ?", (match,)
+                ).fetchone()[0]
+            if total == 0 or offset >= total:
+                return [], total
+            # Few matches: look each up and sort them. Many: walk the sort order's index and keep
+            # the matches ("+s.id" stops SQLite from looking every match up first).
+            id_term = "s.id" if total <= _WALK_ABOVE else "+s.id"
+            matching = f"{id_term} IN (SELECT rowid FROM snippet_search WHERE snippet_search MATCH ?)"
+            condition = " AND ".join(["s.deleted_at IS NULL", matching, *where])
+            params = [match, *params]
+        else:
+            condition = " AND ".join(["s.deleted_at IS NULL", *where])
+            total = conn.execute(f"SELECT count(*) FROM snippet s WHERE {condition}", params).fetchone()[0]
+            if total == 0 or offset >= total:
+                return [], total
+        # ``sql_order`` and the terms come from ORDERS and _filters, never from the request.
+        rows = conn.execute(
+            f"SELECT s.* FROM snippet s WHERE {condition} ORDER BY {sql_order} LIMIT ? OFFSET ?",
+            [*params, limit, offset],
+        ).fetchall()
+        return rows_to_snippets(conn, rows), total
+
+
+def _distinct(conn, column: str) -> list[str]:
+    """The distinct non-empty values of ``column`` among snippets not in the bin, in order.
+
+    One index seek per value (the partial indexes ``snippet_live_press``/``_station``), not a
+    scan of every snippet: a shop has a few presses and a million snippets.
+    """
+    # ``column`` is "press" or "station", never from a request.
+    found: list[str] = []
+    while True:
+        row = conn.execute(
+            f"SELECT {column} FROM snippet INDEXED BY snippet_live_{column}"
+            f" WHERE deleted_at IS NULL AND {column} > ? ORDER BY {column} LIMIT 1",
+            (found[-1] if found else "",),
+        ).fetchone()
+        if row is None:
+            return found
+        found.append(row[0])
+
+
+def presses(conn) -> list[str]:
+    """The presses named on snippets not in the bin, for a filter."""
+    return _distinct(conn, "press")
+
+
+def stations(conn) -> list[str]:
+    """The station names in use, for the list's filter (numbers in number order, then names)."""
+    return sorted(
+        _distinct(conn, "station"), key=lambda v: (not v.isdecimal(), int(v) if v.isdecimal() else 0, v.lower())
+    )
 
 
 def same_as(conn, kind: str, inputs, meta: dict) -> dict | None:
@@ -205,12 +306,6 @@ def same_as(conn, kind: str, inputs, meta: dict) -> dict | None:
     return rows_to_snippets(conn, [row])[0] if row else None
 
 
-def stations(conn) -> list[str]:
-    """The station names in use, for the list's filter."""
-    rows = conn.execute("SELECT DISTINCT station FROM snippet WHERE deleted_at IS NULL AND station != ''").fetchall()
-    return sorted((r[0] for r in rows), key=lambda v: (not v.isdecimal(), int(v) if v.isdecimal() else 0, v.lower()))
-
-
 def by_job(conn, job_number: str) -> list[dict]:
     """Every snippet of one job number not in the bin, station by station (3 before 10, then
     named ones), then oldest first: the job's record."""
@@ -226,14 +321,6 @@ def by_job(conn, job_number: str) -> list[dict]:
         return (station == "", not station.isdecimal(), int(station) if station.isdecimal() else 0, station.lower())
 
     return sorted(rows_to_snippets(conn, rows), key=station_order)
-
-
-def presses(conn) -> list[str]:
-    """The presses named on snippets not in the bin, for a filter."""
-    rows = conn.execute(
-        "SELECT DISTINCT press FROM snippet WHERE deleted_at IS NULL AND press <> '' ORDER BY press"
-    ).fetchall()
-    return [row["press"] for row in rows]
 
 
 def in_bin(conn, now: datetime | None = None) -> list[dict]:
@@ -267,9 +354,9 @@ def insert_row(conn, row: dict):
     """Insert one snippet and its tags, unless its ``uid`` is here already; the cursor
     (``rowcount`` 0 when it was)."""
     cursor = conn.execute(
-        "INSERT INTO snippet (uid, kind, title, job_number, press, station, notes, saved_by,"
+        "INSERT INTO snippet (uid, kind, title, job_number, press, station, notes, saved_by, changed_by,"
         " inputs, results, created_at, updated_at, version)"
-        " VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?) ON CONFLICT (uid) DO NOTHING",
+        " VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?) ON CONFLICT (uid) DO NOTHING",
         (
             row["uid"],
             row["kind"],
@@ -279,6 +366,7 @@ def insert_row(conn, row: dict):
             row.get("station", ""),
             row.get("notes", ""),
             row.get("saved_by", ""),
+            row.get("changed_by", ""),
             json.dumps(row["inputs"], ensure_ascii=False),
             json.dumps(row["results"], ensure_ascii=False),
             row["created_at"],
@@ -289,6 +377,47 @@ def insert_row(conn, row: dict):
     if cursor.rowcount == 1:
         _write_tags(conn, cursor.lastrowid, row.get("tags", []))
     return cursor
+
+
+def insert_rows(conn, rows: list[dict]) -> int:
+    """Insert the snippets of ``rows`` (as ``insert_row`` takes them) whose ``uid`` is not here yet,
+    in one statement, and their tags in another; how many were new. The uids of ``rows`` differ."""
+    if not rows:
+        return 0
+    uids = [row["uid"] for row in rows]
+    here = {
+        found for (found,) in conn.execute(f"SELECT uid FROM snippet WHERE uid IN ({', '.join('?' * len(uids))})", uids)
+    }
+    new = [row for row in rows if row["uid"] not in here]
+    conn.executemany(
+        "INSERT INTO snippet (uid, kind, title, job_number, press, station, notes, saved_by, changed_by,"
+        " inputs, results, created_at, updated_at, version) VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)",
+        [_row_values(row) for row in new],
+    )
+    conn.executemany(
+        "INSERT INTO snippet_tag (snippet_id, tag) SELECT id, ? FROM snippet WHERE uid = ?",
+        [(tag, row["uid"]) for row in new for tag in row.get("tags", [])],
+    )
+    return len(new)
+
+
+def _row_values(row: dict) -> tuple:
+    return (
+        row["uid"],
+        row["kind"],
+        row["title"],
+        row.get("job_number", ""),
+        row.get("press", ""),
+        row.get("station", ""),
+        row.get("notes", ""),
+        row.get("saved_by", ""),
+        row.get("changed_by", ""),
+        json.dumps(row["inputs"], ensure_ascii=False),
+        json.dumps(row["results"], ensure_ascii=False),
+        row["created_at"],
+        row["updated_at"],
+        row["version"],
+    )
 
 
 def create(conn, kind: str, inputs: dict, meta: dict, calculations: dict, *, now: datetime | None = None) -> dict:
