@@ -499,17 +499,26 @@ def parse_unit(text, field: str | None = "unit") -> pint.Unit:
     text = text.strip()
     if len(text) > MAX_UNIT_CHARS:
         raise InputError(field, "that unit is too long to be a unit")
-    normalised = _normalise(text)
-    stray = _stray_character(normalised)
-    if stray is not None:
-        raise InputError(field, f"{stray}; a unit is spelled like BCM/in2, cm3/m2 or um")
-    problem = _grammar_problem(normalised)
-    if problem is not None:
-        raise InputError(field, f"'{text}' is not a unit inkfilm understands: {problem}")
-    unit = _read_unit(text, normalised)
+    unit = _checked_unit(text)
     if isinstance(unit, str):
         raise InputError(field, unit)
     return unit
+
+
+@lru_cache(maxsize=REGISTRY_CACHE_SIZE)
+def _checked_unit(text: str) -> pint.Unit | str:
+    """The unit for stripped ``text`` of at most :data:`MAX_UNIT_CHARS`, or plain words for what is wrong.
+
+    The same text always gets the same answer, so it is worked out once.
+    """
+    normalised = _normalise(text)
+    stray = _stray_character(normalised)
+    if stray is not None:
+        return f"{stray}; a unit is spelled like BCM/in2, cm3/m2 or um"
+    problem = _grammar_problem(normalised)
+    if problem is not None:
+        return f"'{text}' is not a unit inkfilm understands: {problem}"
+    return _read_unit(text, normalised)
 
 
 def _spelling_in(text: str, name: str) -> str:

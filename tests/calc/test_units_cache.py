@@ -220,3 +220,18 @@ def test_a_cache_folder_that_cannot_be_written_falls_back_to_reading_the_files(t
     monkeypatch.setattr(units, "_new_registry", refuse)
     assert units._build_registry() is REFERENCE
     assert calls == [folder, folder, None]  # the cache, the cache made anew, no cache
+
+
+@pytest.mark.parametrize("text", ["m**9**9**9", "in2**2", "furlongs/fortnight", "m;", "BCM/in2"])
+def test_a_checked_spelling_is_remembered_without_its_field(text):
+    """``parse_unit`` works out a spelling once; each call still names its own field."""
+    answers = []
+    for field in ("to", "anilox_unit", "to"):
+        try:
+            answers.append((None, str(units.parse_unit(text, field))))
+        except units.InputError as exc:
+            assert exc.field == field
+            answers.append((None, exc.message))
+    assert len(set(answers)) == 1
+    if text == "BCM/in2":
+        assert answers[0][1] == str(REFERENCE.parse_units("BCM/in2"))
