@@ -35,10 +35,12 @@ to :data:`MAX_MAGNITUDE` can overflow. Anything else is an
 
 from __future__ import annotations
 
+import hashlib
 import math
 import os
 import pickle
 import re
+import shutil
 from functools import lru_cache
 from pathlib import Path
 
@@ -108,25 +110,58 @@ def cache_folder(kind: str) -> Path | None:
     return folder
 
 
+def _pint_cache_folder() -> Path | None:
+    """Where pint keeps its parsed definitions: one folder per pint install.
+
+    pint's cache names the files it parsed by their full path, so a cache
+    written by another install (another virtual environment, a pint since
+    upgraded or moved) points at files that are not there: each install gets
+    a folder of its own, named by pint's version and location.
+    """
+    folder = cache_folder("pint")
+    if folder is None:
+        return None
+    key = hashlib.sha256(f"{pint.__version__}\n{Path(pint.__file__).parent}".encode()).hexdigest()[:16]
+    folder = folder / key
+    try:
+        folder.mkdir(exist_ok=True, mode=0o700)
+    except OSError:
+        return None
+    return folder
+
+
+_CACHE_TROUBLE = (OSError, EOFError, ValueError, TypeError, AttributeError, pickle.UnpicklingError)
+
+
+def _new_registry(folder: Path | None) -> pint.UnitRegistry:
+    registry = pint.UnitRegistry(preprocessors=[_normalise], autoconvert_offset_to_baseunit=False, cache_folder=folder)
+    registry.load_definitions(TRADE_UNITS)
+    return registry
+
+
 def _build_registry() -> pint.UnitRegistry:
     """pint's registry with the trade units; pint keeps its parsed definition files in the cache folder.
 
     pint's own definition cache (``cache_folder``) holds the parsed files keyed
     on their content, so a start after the first skips most of the ~0.5 s of
     reading them; the registry is the same either way
-    (``tests/calc/test_units_cache.py``).
+    (``tests/calc/test_units_cache.py``). A damaged cache (a file another
+    process was writing, a disk error) is emptied and written again, so the
+    next start is fast again; if that fails too, the files are read without a
+    cache.
     """
-    folder = cache_folder("pint")
-    try:
-        registry = pint.UnitRegistry(
-            preprocessors=[_normalise], autoconvert_offset_to_baseunit=False, cache_folder=folder
-        )
-        registry.load_definitions(TRADE_UNITS)
-    except (OSError, EOFError, ValueError, pickle.UnpicklingError):
-        # A cache file another process is writing, or a damaged one: read the files afresh.
-        registry = pint.UnitRegistry(preprocessors=[_normalise], autoconvert_offset_to_baseunit=False)
-        registry.load_definitions(TRADE_UNITS)
-    return registry
+    folder = _pint_cache_folder()
+    if folder is not None:
+        try:
+            return _new_registry(folder)
+        except _CACHE_TROUBLE:
+            shutil.rmtree(folder, ignore_errors=True)
+        try:
+            folder.mkdir(parents=True, exist_ok=True, mode=0o700)
+            return _new_registry(folder)
+        except _CACHE_TROUBLE:
+            pass
+    return _new_registry(None)
 
 
 TRADE_UNITS = Path(__file__).with_name("trade_units.txt")
@@ -178,6 +213,8 @@ def _convert(value, src, dst, inplace=False, **ctx_kwargs):
         or type(dst) is not pint.util.UnitsContainer
     ):
         return _pint_convert(value, src, dst, inplace, **ctx_kwargs)
+    if src is dst:
+        return value
     factor = _FACTORS.get((src, dst))
     if factor is None:
         if src == dst:
@@ -196,6 +233,7 @@ ureg.convert = _convert
 
 
 _pint_new = Q_.__new__
+_Unit = ureg.Unit
 
 
 def _new_quantity(cls, value, units=None):
@@ -211,6 +249,8 @@ def _new_quantity(cls, value, units=None):
         unit_kind = type(units)
         if unit_kind is str:
             units = ureg.parse_units(units)._units
+        elif unit_kind is _Unit:
+            units = units._units
         elif unit_kind is not pint.util.UnitsContainer:
             return _pint_new(cls, value, units)
         quantity = object.__new__(cls)
@@ -221,6 +261,38 @@ def _new_quantity(cls, value, units=None):
 
 
 Q_.__new__ = staticmethod(_new_quantity)
+
+_pint_to = Q_.to
+
+
+def _quantity_to(self, other=None, *contexts, **ctx_kwargs):
+    """``Quantity.to`` (and so ``m_as``) for a plain number, as pint does it, without its dispatch.
+
+    pint turns ``other`` into a unit container, converts the magnitude by
+    ``ureg.convert`` and makes a Quantity of the two; for a float or int with a
+    unit spelling of the code, a unit or a unit container, and no context,
+    this does the same three steps through the remembered parts above (the
+    same numbers). Anything else goes to pint.
+    """
+    kind = type(self._magnitude)
+    if contexts or ctx_kwargs or (kind is not float and kind is not int):
+        return _pint_to(self, other, *contexts, **ctx_kwargs)
+    other_kind = type(other)
+    if other_kind is str:
+        units = _units_of(other)
+    elif other_kind is _Unit:
+        units = other._units
+    elif other_kind is pint.util.UnitsContainer:
+        units = other
+    else:
+        return _pint_to(self, other, *contexts, **ctx_kwargs)
+    quantity = object.__new__(type(self))
+    quantity._magnitude = ureg.convert(self._magnitude, self._units, units)
+    quantity._units = units
+    return quantity
+
+
+Q_.to = _quantity_to
 
 
 @lru_cache(maxsize=REGISTRY_CACHE_SIZE)
@@ -237,7 +309,8 @@ def magnitude_in(quantity, unit) -> float:
     >>> magnitude_in(Q_(1.0, "BCM/in2"), "cm3/m2") == Q_(1.0, "BCM/in2").to("cm3/m2").magnitude
     True
     """
-    return ureg.convert(quantity._magnitude, quantity._units, _units_of(unit))
+    units = unit._units if type(unit) is _Unit else _units_of(unit)
+    return ureg.convert(quantity._magnitude, quantity._units, units)
 
 
 @lru_cache(maxsize=REGISTRY_CACHE_SIZE)
@@ -426,17 +499,26 @@ def parse_unit(text, field: str | None = "unit") -> pint.Unit:
     text = text.strip()
     if len(text) > MAX_UNIT_CHARS:
         raise InputError(field, "that unit is too long to be a unit")
-    normalised = _normalise(text)
-    stray = _stray_character(normalised)
-    if stray is not None:
-        raise InputError(field, f"{stray}; a unit is spelled like BCM/in2, cm3/m2 or um")
-    problem = _grammar_problem(normalised)
-    if problem is not None:
-        raise InputError(field, f"'{text}' is not a unit inkfilm understands: {problem}")
-    unit = _read_unit(text, normalised)
+    unit = _checked_unit(text)
     if isinstance(unit, str):
         raise InputError(field, unit)
     return unit
+
+
+@lru_cache(maxsize=REGISTRY_CACHE_SIZE)
+def _checked_unit(text: str) -> pint.Unit | str:
+    """The unit for stripped ``text`` of at most :data:`MAX_UNIT_CHARS`, or plain words for what is wrong.
+
+    The same text always gets the same answer, so it is worked out once.
+    """
+    normalised = _normalise(text)
+    stray = _stray_character(normalised)
+    if stray is not None:
+        return f"{stray}; a unit is spelled like BCM/in2, cm3/m2 or um"
+    problem = _grammar_problem(normalised)
+    if problem is not None:
+        return f"'{text}' is not a unit inkfilm understands: {problem}"
+    return _read_unit(text, normalised)
 
 
 def _spelling_in(text: str, name: str) -> str:

@@ -30,7 +30,10 @@ def create_app(test_config: dict | None = None) -> Flask:
     from flask import Flask, Response, jsonify, request
     from werkzeug.exceptions import HTTPException
 
+    from webapp.common.routing import LazyRule
+
     app = Flask(__name__)
+    app.url_rule_class = LazyRule  # address builders made when first used (start-up time)
     app.config.from_mapping(
         DATA_DIR=os.environ.get("INKFILM_DATA_DIR", str(Path.cwd() / "inkfilm-data")),
         # The JSON API takes bodies up to 64 KB (webapp.common.jsonapi); this is the

@@ -135,13 +135,17 @@ def _probe(cache: Path) -> list:
 def test_the_definition_cache_in_a_fresh_damaged_or_impossible_folder_gives_the_same_registry(tmp_path):
     fresh = tmp_path / "fresh"
     first = _probe(fresh)
-    files = sorted((fresh / "pint").iterdir())
+    files = sorted((fresh / "pint").rglob("*"))
     assert any(path.suffix == ".pickle" for path in files)  # pint wrote its cache
     assert _probe(fresh) == first  # read back from the cache
     for path in files:
         if path.suffix == ".pickle":
             path.write_bytes(b"not a pickle")
     assert _probe(fresh) == first  # a damaged file: read afresh
+    # ... and written again, so that the next start is fast again
+    rewritten = [path.read_bytes() for path in (fresh / "pint").rglob("*.pickle")]
+    assert rewritten and b"not a pickle" not in rewritten
+    assert _probe(fresh) == first
     blocker = tmp_path / "a-file"
     blocker.write_text("in the way")
     assert _probe(blocker / "below") == first  # no folder can be made: nothing remembered
@@ -160,3 +164,74 @@ def test_no_cache_folder_when_it_cannot_be_made(tmp_path, monkeypatch):
     monkeypatch.setenv("INKFILM_CACHE_DIR", str(tmp_path / "ok"))
     assert units.cache_folder("pint") == tmp_path / "ok" / "pint"
     assert (tmp_path / "ok" / "pint").is_dir()
+
+
+def test_the_definition_cache_is_one_folder_per_pint_install(tmp_path, monkeypatch):
+    """pint's cache names its files by their full path: a cache another install wrote (another
+    virtual environment, pint moved or upgraded) is never read, and changes nothing."""
+    monkeypatch.setenv("INKFILM_CACHE_DIR", str(tmp_path))
+    folder = units._pint_cache_folder()
+    assert folder is not None and folder.parent == tmp_path / "pint" and folder.is_dir()
+    assert folder.name != units._pint_cache_folder.__name__
+    # Another install's cache beside ours, with parsed files of paths that are not here.
+    other = tmp_path / "pint" / "another-install"
+    other.mkdir()
+    for path in (ROOT / "calc").glob("*.txt"):
+        (other / (path.stem + ".json")).write_text(json.dumps({"path": "/nowhere/default_en.txt"}))
+    assert _probe(tmp_path) == _probe(tmp_path / "elsewhere")
+    assert sorted(p.name for p in other.iterdir()) == ["trade_units.json"]  # left alone
+
+
+def test_a_registry_from_the_cache_has_the_definitions_of_an_uncached_one(tmp_path, monkeypatch):
+    """Reference: pint, a registry read without any cache. Every unit, prefix and dimension the
+    cached registry defines is defined alike (its factor to root units and its dimension)."""
+    monkeypatch.setenv("INKFILM_CACHE_DIR", str(tmp_path))
+    folder = units._pint_cache_folder()
+    units._new_registry(folder)  # writes the cache
+    cached = units._new_registry(folder)  # reads it
+    assert any(folder.rglob("*.pickle"))
+    REFERENCE = _reference()  # fresh: pint adds the prefixed units it has parsed to its table
+    # A registry from the cache adds prefixed names (micrometer) when first parsed, not at start.
+    assert set(cached._units) <= set(REFERENCE._units)
+    assert sorted(cached._prefixes) == sorted(REFERENCE._prefixes)
+    assert sorted(cached._dimensions) == sorted(REFERENCE._dimensions)
+    for name, definition in REFERENCE._units.items():
+        assert cached.get_name(name) == REFERENCE.get_name(name), name
+        assert cached.get_symbol(name) == REFERENCE.get_symbol(name), name
+        unit = pint.util.UnitsContainer({REFERENCE.get_name(name): 1})
+        assert cached._get_dimensionality(unit) == REFERENCE._get_dimensionality(unit), name
+        if definition.is_multiplicative:
+            ours, theirs = cached._get_root_units(unit), REFERENCE._get_root_units(unit)
+            assert ours[0] == theirs[0], name
+            assert str(ours[1]) == str(theirs[1]), name
+
+
+def test_a_cache_folder_that_cannot_be_written_falls_back_to_reading_the_files(tmp_path, monkeypatch):
+    monkeypatch.setenv("INKFILM_CACHE_DIR", str(tmp_path))
+    folder = units._pint_cache_folder()
+    calls = []
+
+    def refuse(registry_folder):
+        calls.append(registry_folder)
+        if registry_folder is not None:
+            raise PermissionError("read-only cache")
+        return REFERENCE
+
+    monkeypatch.setattr(units, "_new_registry", refuse)
+    assert units._build_registry() is REFERENCE
+    assert calls == [folder, folder, None]  # the cache, the cache made anew, no cache
+
+
+@pytest.mark.parametrize("text", ["m**9**9**9", "in2**2", "furlongs/fortnight", "m;", "BCM/in2"])
+def test_a_checked_spelling_is_remembered_without_its_field(text):
+    """``parse_unit`` works out a spelling once; each call still names its own field."""
+    answers = []
+    for field in ("to", "anilox_unit", "to"):
+        try:
+            answers.append((None, str(units.parse_unit(text, field))))
+        except units.InputError as exc:
+            assert exc.field == field
+            answers.append((None, exc.message))
+    assert len(set(answers)) == 1
+    if text == "BCM/in2":
+        assert answers[0][1] == str(REFERENCE.parse_units("BCM/in2"))

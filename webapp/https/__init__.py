@@ -55,6 +55,20 @@ class SecureWhenHttps(SecureCookieSessionInterface):
     def get_cookie_secure(self, app) -> bool:
         return request.is_secure or super().get_cookie_secure(app)
 
+    def get_signing_serializer(self, app):
+        """Flask's serializer for the cookie, made once per key instead of twice per request.
+
+        Flask builds a new one on every open and save (and itsdangerous tries
+        the JSON serializer out each time); it keeps nothing between calls, so
+        one made for the same keys signs and reads alike.
+        """
+        keys = (app.secret_key, tuple(app.config.get("SECRET_KEY_FALLBACKS") or ()))
+        made = getattr(self, "_signing", None)
+        if made is None or made[0] != keys:
+            made = (keys, super().get_signing_serializer(app))
+            self._signing = made
+        return made[1]
+
 
 def _secure_cookies(response):
     if not request.is_secure:
