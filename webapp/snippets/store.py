@@ -15,7 +15,7 @@ import uuid
 from datetime import UTC, datetime, timedelta
 
 from calc import InputError
-from webapp.common.db import MAX_ID, snapshot, transaction
+from webapp.common.db import MAX_ID, snapshot, transaction, write_together
 from webapp.snippets.rules import META_FIELDS, check_kind, check_meta, compute
 
 BIN_DAYS = 30
@@ -346,9 +346,9 @@ def create(conn, kind: str, inputs: dict, meta: dict, calculations: dict, *, now
         "updated_at": stamp,
         "version": 1,
     }
-    with transaction(conn):
-        cursor = insert_row(conn, row)
-    return get(conn, cursor.lastrowid)
+    # Committed together with the saves of other requests queued meanwhile (group commit).
+    snippet_id = write_together(conn, lambda writer: insert_row(writer, row).lastrowid)
+    return get(conn, snippet_id)
 
 
 def _check_version(version) -> int:
