@@ -58,25 +58,43 @@ def start_and_time(data_dir: str) -> tuple[subprocess.Popen, int, float]:
 
 
 def drive(
-    port: int, method: str, path: str, body: bytes | None, connections: int, seconds: float, extra: dict | None = None
+    port: int,
+    method: str,
+    path: str,
+    body: bytes | None,
+    connections: int,
+    seconds: float,
+    extra: dict | None = None,
+    *,
+    requests: list[tuple[str, str, bytes | None]] | None = None,
 ) -> dict:
-    """``connections`` threads, each on one keep-alive connection, for ``seconds`` (``extra``: more headers)."""
+    """``connections`` threads, each on one keep-alive connection, for ``seconds`` (``extra``: more headers).
+
+    Each sends ``method path body`` again and again, or, given ``requests``, goes round that
+    list of ``(method, path, body)`` (thread ``i`` starting at its ``i``-th entry). Any answer
+    but a 2xx counts as a failure."""
     latencies: list[list[float]] = [[] for _ in range(connections)]
     failures = [0] * connections
     stop_at = time.perf_counter() + seconds
-    headers = {"Content-Type": "application/json", "Accept-Encoding": "gzip"} if body else {"Accept-Encoding": "gzip"}
-    headers |= extra or {}
+    rounds = requests or [(method, path, body)]
 
     def worker(index: int) -> None:
         connection = http.client.HTTPConnection("127.0.0.1", port, timeout=10)
         own = latencies[index]
+        turn = index
         while time.perf_counter() < stop_at:
+            verb, target, payload = rounds[turn % len(rounds)]
+            turn += 1
+            headers = {"Accept-Encoding": "gzip"}
+            if payload:
+                headers["Content-Type"] = "application/json"
+            headers |= extra or {}
             began = time.perf_counter()
             try:
-                connection.request(method, path, body, headers)
+                connection.request(verb, target, payload, headers)
                 response = connection.getresponse()
                 response.read()
-                if response.status != 200:
+                if not 200 <= response.status < 300:
                     failures[index] += 1
             except OSError:
                 failures[index] += 1

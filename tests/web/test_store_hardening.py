@@ -460,7 +460,16 @@ def disk_full_error(app, monkeypatch):
             raise sqlite3.OperationalError("database or disk is full")
             yield conn  # pragma: no cover
 
+    real_together = db.write_together
+
+    def failing_together(conn, work):
+        def fail(writer):
+            raise sqlite3.OperationalError("database or disk is full")
+
+        return real_together(conn, fail)
+
     monkeypatch.setattr(store, "transaction", failing)
+    monkeypatch.setattr(store, "write_together", failing_together)
     return app
 
 

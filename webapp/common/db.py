@@ -1,7 +1,7 @@
 """inkfilm's SQLite file: connections, the schema and its migrations, backups.
 
 The database is one file in the data folder. Every request gets its own
-connection on ``g`` (closed at teardown); WAL mode lets readers go on while
+connection on ``g`` (kept at teardown for the same thread's next request); WAL mode lets readers go on while
 one writer writes, and the busy timeout makes a second writer wait its turn
 instead of failing. The schema is versioned with ``PRAGMA user_version``:
 the numbered files in ``migrations/`` (``0001_snippet.sql``, …) each take a
@@ -16,7 +16,10 @@ import errno
 import os
 import sqlite3
 import threading
+import time
+from collections.abc import Callable
 from pathlib import Path
+from typing import TypeVar
 
 from flask import current_app, g
 
@@ -75,10 +78,46 @@ def _write_lock(path) -> threading.Lock:
         return _WRITE_LOCKS.setdefault(key, threading.Lock())
 
 
+class _Job:
+    """One write waiting to be done with others (see ``write_together``)."""
+
+    __slots__ = ("work", "value", "error", "finished")
+
+    def __init__(self, work):
+        self.work = work
+        self.value = None
+        self.error: BaseException | None = None
+        self.finished = False
+
+    def fail(self, error: BaseException) -> None:
+        self.value, self.error = None, error
+
+
+class _WriteGroup:
+    """The writes of one file queued for the next shared commit, and whether one is being made."""
+
+    def __init__(self, lock: threading.Lock):
+        self.lock = lock
+        self.changed = threading.Condition(threading.Lock())
+        self.pending: list[_Job] = []
+        self.leading = False
+
+
+_WRITE_GROUPS: dict[int, _WriteGroup] = {}
+
+
+def _write_group(lock: threading.Lock) -> _WriteGroup:
+    with _WRITE_LOCKS_GUARD:
+        return _WRITE_GROUPS.setdefault(id(lock), _WriteGroup(lock))
+
+
 class Connection(sqlite3.Connection):
-    """A ``sqlite3`` connection that knows the write lock of its file."""
+    """A ``sqlite3`` connection that knows the write lock of its file and its queue of writes."""
 
     write_lock: threading.Lock
+    write_group: _WriteGroup
+    # Set on a request's connection: its key among a thread's kept connections.
+    kept_as: tuple | None = None
 
 
 def connect(path: str | os.PathLike) -> sqlite3.Connection:
@@ -93,6 +132,7 @@ def connect(path: str | os.PathLike) -> sqlite3.Connection:
         path, timeout=BUSY_TIMEOUT_S, isolation_level=None, check_same_thread=False, factory=Connection
     )
     conn.write_lock = _write_lock(path)
+    conn.write_group = _write_group(conn.write_lock)
     conn.row_factory = sqlite3.Row
     conn.execute("PRAGMA foreign_keys = ON")
     # FULL: a save the server has answered survives a power cut, not only a crash.
@@ -124,6 +164,133 @@ def transaction(conn: sqlite3.Connection):
     finally:
         if lock is not None:
             lock.release()
+
+
+T = TypeVar("T")
+
+
+def write_together(conn: sqlite3.Connection, work: Callable[[sqlite3.Connection], T]) -> T:
+    """``work(c)`` done in a write transaction shared with the other writes queued meanwhile; its value.
+
+    Group commit: with ``synchronous = FULL`` every commit waits for the disk (an
+    fsync of the WAL), and one writer at a time may commit. So a writer queues its
+    ``work`` and the first one to find no commit being made takes every queued
+    write into one transaction on its own connection (``c``): each write in a
+    savepoint of its own, then one ``COMMIT`` for all of them. Each caller gets
+    its own value, or its own exception, only after that commit: an answered
+    write is on disk exactly as if it had committed alone, and an error in one
+    write (a ``Conflict``, a bad input) undoes that write only. If the commit
+    fails, or SQLite rolls the whole transaction back (a full disk), every write
+    in it gets that error.
+
+    ``work`` runs on another request's connection, maybe on another thread: it
+    may only use the ``c`` it is given, must not open a transaction itself, and
+    should be short (plain SQL; work the inputs out before). A connection not made
+    by ``connect`` (no queue) does its write alone in ``transaction``.
+    """
+    group = getattr(conn, "write_group", None)
+    if group is None:
+        with transaction(conn):
+            return work(conn)
+    job = _Job(work)
+    deadline = time.monotonic() + BUSY_TIMEOUT_S
+    with group.changed:
+        group.pending.append(job)
+        while group.leading and not job.finished:
+            left = deadline - time.monotonic()
+            if left <= 0 and job in group.pending:
+                group.pending.remove(job)
+                raise sqlite3.OperationalError("database is locked")
+            # Taken into a commit already: that commit ends, whatever the clock says.
+            group.changed.wait(left if left > 0 else 1.0)
+        batch = []
+        if not job.finished:
+            group.leading = True
+            batch, group.pending = group.pending, []
+    if batch:
+        try:
+            if group.lock.acquire(timeout=max(0.0, deadline - time.monotonic())):
+                try:
+                    _commit_together(conn, batch)
+                finally:
+                    group.lock.release()
+            else:
+                for other in batch:
+                    other.fail(sqlite3.OperationalError("database is locked"))
+        finally:
+            with group.changed:
+                for other in batch:
+                    other.finished = True
+                group.leading = False
+                group.changed.notify_all()
+    if job.error is not None:
+        raise job.error
+    return job.value
+
+
+def _commit_together(conn: sqlite3.Connection, batch: list[_Job]) -> None:
+    """Every job of ``batch`` in one transaction on ``conn``, each in a savepoint of its own; one commit.
+
+    Sets each job's value or error; raises only what is not an ``Exception`` (the
+    transaction rolled back first, every job failed).
+    """
+    kept: list[_Job] = []
+    try:
+        conn.execute("BEGIN IMMEDIATE")
+        for number, job in enumerate(batch):
+            if not conn.in_transaction:
+                try:
+                    conn.execute("BEGIN IMMEDIATE")
+                except sqlite3.Error as exc:
+                    for later in batch[number:]:
+                        later.fail(exc)
+                    break
+            try:
+                conn.execute("SAVEPOINT together")
+                value = job.work(conn)
+                conn.execute("RELEASE together")
+            except Exception as exc:  # noqa: BLE001 - handed to the caller whose write it was
+                job.fail(exc)
+                if _undo_savepoint(conn):
+                    continue
+                # The whole transaction is gone (SQLite rolls back on a full disk): so are the writes before.
+                for earlier in kept:
+                    earlier.fail(exc)
+                kept = []
+                continue
+            job.value = value
+            kept.append(job)
+        if conn.in_transaction:
+            conn.execute("COMMIT")
+    except Exception as exc:  # noqa: BLE001 - the BEGIN or the COMMIT: every write waiting on it failed
+        _roll_back(conn)
+        for job in batch:
+            if job.error is None:
+                job.fail(exc)
+    except BaseException as exc:
+        _roll_back(conn)
+        for job in batch:
+            job.fail(sqlite3.OperationalError(f"the write was not finished ({type(exc).__name__})"))
+        raise
+
+
+def _undo_savepoint(conn: sqlite3.Connection) -> bool:
+    """Undo the last job's savepoint; False when the transaction is gone (or rolled back here)."""
+    if not conn.in_transaction:
+        return False
+    try:
+        conn.execute("ROLLBACK TO together")
+        conn.execute("RELEASE together")
+    except sqlite3.Error:
+        _roll_back(conn)
+        return False
+    return True
+
+
+def _roll_back(conn: sqlite3.Connection) -> None:
+    if conn.in_transaction:
+        with contextlib.suppress(sqlite3.Error):
+            conn.execute("ROLLBACK")
 
 
 @contextlib.contextmanager
@@ -247,17 +414,68 @@ def database_path(app=None) -> Path:
     return Path(app.config["DATA_DIR"]) / FILENAME
 
 
+# A request's connection is kept for the next request on the same thread (waitress's threads
+# live as long as the server): opening one and reading the schema costs more CPU than most
+# queries. At most this many are kept per thread (the tests open many data folders).
+_KEPT_PER_THREAD = 2
+_kept = threading.local()
+
+
+class _Kept(dict):
+    """A thread's idle connections, ``(path, connect) -> connection``; closed when the thread ends."""
+
+    def __del__(self):
+        for conn in self.values():
+            with contextlib.suppress(sqlite3.Error):
+                conn.close()
+
+
+def _take_connection(path) -> sqlite3.Connection:
+    """The connection to ``path`` this thread kept from its last request, else a new one.
+
+    Keyed by ``connect`` too, so a connection is reused only while the same function would make it.
+    (Never replace the database file under a running server: SQLite would apply the old file's WAL
+    to the new one. Stop it, then restore.)
+    """
+    key = (os.path.abspath(path), connect)
+    kept = getattr(_kept, "connections", None)
+    conn = kept.pop(key, None) if kept else None
+    if conn is not None:
+        return conn
+    conn = connect(path)
+    if isinstance(conn, Connection):
+        conn.kept_as = key
+    return conn
+
+
+def _give_back(conn: sqlite3.Connection) -> None:
+    """Keep ``conn`` for this thread's next request, or close it (a transaction left open, not ours)."""
+    kept_as = getattr(conn, "kept_as", None)
+    if kept_as is None or conn.in_transaction:
+        conn.close()
+        return
+    kept = getattr(_kept, "connections", None)
+    if kept is None:
+        kept = _kept.connections = _Kept()
+    if kept_as in kept:
+        conn.close()
+        return
+    kept[kept_as] = conn
+    while len(kept) > _KEPT_PER_THREAD:
+        kept.pop(next(iter(kept))).close()
+
+
 def get_db() -> sqlite3.Connection:
-    """This request's connection, opened on first use."""
+    """This request's connection, opened on first use (or kept from this thread's last request)."""
     if "db" not in g:
-        g.db = connect(database_path())
+        g.db = _take_connection(database_path())
     return g.db
 
 
 def close_db(_exc=None) -> None:
     conn = g.pop("db", None)
     if conn is not None:
-        conn.close()
+        _give_back(conn)
 
 
 def init_app(app) -> None:

@@ -18,7 +18,7 @@ import uuid
 from datetime import UTC, datetime, timedelta
 
 from calc import InputError
-from webapp.common.db import MAX_ID, snapshot, transaction
+from webapp.common.db import MAX_ID, snapshot, transaction, write_together
 from webapp.common.jsontext import has_lone_surrogate
 from webapp.snippets.rules import META_FIELDS, check_client_id, check_kind, check_meta, compute
 
@@ -477,17 +477,24 @@ def create_once(
         "updated_at": stamp,
         "version": 1,
     }
-    with transaction(conn):
-        if client_id and (found := _saved_under(conn, client_id, digest)) is not None:
-            return found, False  # sent twice at once: the other request saved it first
-        cursor = insert_row(conn, row)
+
+    def add(writer) -> tuple[int | None, dict | None]:
+        if client_id and (found := _saved_under(writer, client_id, digest)) is not None:
+            return None, found  # sent twice at once: the other request saved it first
+        cursor = insert_row(writer, row)
         if client_id:
-            conn.execute(
+            writer.execute(
                 "UPDATE snippet SET client_id = ?, client_digest = ? WHERE id = ?",
                 (client_id, digest, cursor.lastrowid),
             )
-        _record(conn, get(conn, cursor.lastrowid), "saved", row.get("saved_by", ""), stamp)
-    return get(conn, cursor.lastrowid), True
+        _record(writer, get(writer, cursor.lastrowid), "saved", row.get("saved_by", ""), stamp)
+        return cursor.lastrowid, None
+
+    # Committed together with the saves of other requests queued meanwhile (group commit).
+    snippet_id, found = write_together(conn, add)
+    if found is not None:
+        return found, False
+    return get(conn, snippet_id), True
 
 
 def _check_version(version) -> int:
