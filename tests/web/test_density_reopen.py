@@ -92,6 +92,8 @@ def test_an_ink_strength_snippet_opens_with_every_reading_and_its_settings(clien
     again = save_inputs(page)
     assert 'name="kind" value="density_volume_for"' in page
     assert CALCULATIONS["density_volume_for"](again) == CALCULATIONS["density_volume_for"](STRENGTH)
+    # The shop's own readings are not called invented.
+    assert "example rows are invented" not in page
 
 
 def test_a_fit_in_mil_opens_by_film_in_mil_with_the_page_s_own_question(client):
@@ -135,3 +137,22 @@ def test_a_snippet_without_readings_or_with_refused_ones_opens_no_calculator():
 def test_an_address_without_rows_still_shows_the_example(client):
     page = text(client.get("/ink-strength?target_density=1.2"))
     assert len(rows(page)) == 6 and re.search(r'name="target_density"[^>]*value="1.2"', page)
+    assert "example rows are invented" in page
+
+
+def test_the_invented_hint_goes_once_every_example_row_is_typed_over(client):
+    page = text(client.get("/ink-strength"))
+    assert "example rows are invented" in page
+    form = {"csrf_token": csrf_from(client), "reading_count": "3", "basis": "volume", "volume_unit": "BCM/in2"}
+    form |= {"film_unit": "um", "target_density": "1.3", "transfer": "25"}
+    for index, (value, density) in enumerate((("2", "0.7"), ("3", "0.95"), ("5", "1.2"))):
+        form |= {
+            f"readings[{index}].value": value,
+            f"readings[{index}].transfer": "25",
+            f"readings[{index}].density": density,
+        }
+    answer = client.post("/ink-strength", data=form)
+    assert answer.status_code == 200
+    assert "example rows are invented" not in text(answer)
+    form["readings[0].value"], form["readings[0].density"] = "1.5", "0.64"  # the first example row again
+    assert "example rows are invented" in text(client.post("/ink-strength", data=form))

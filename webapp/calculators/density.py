@@ -243,6 +243,11 @@ def strength_form() -> dict:
             pass
     form["readings"] = rows
     form["reading_count"] = str(len(rows))
+    # The hint that the rows are invented, only while one of the example rows is still there.
+    form["shows_example"] = any(
+        (row["value"].strip(), row["density"].strip()) == example
+        for row, example in zip(rows, EXAMPLE_ROWS, strict=False)
+    )
     return form
 
 
