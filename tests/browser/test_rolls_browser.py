@@ -161,6 +161,31 @@ def test_the_overview_filter_updates_the_list_in_place(open_context, demo_shop):
     assert page.evaluate("window.stillThisPage") is True
 
 
+def test_on_a_phone_each_roll_of_the_overview_shows_every_figure_without_scrolling_sideways(
+    open_context, screenshots, demo_shop
+):
+    base, rolls = demo_shop
+    page = open_context(PHONE, base_url=base).new_page()
+    page.goto("/rolls")
+    box = page.locator(".table-wrap")
+    assert box.evaluate("element => element.scrollWidth <= element.clientWidth")
+    first = page.locator(".rolls-table tbody tr").first
+    for name in ("Screen", "Nominal", "Latest", "Where", "Replace by"):
+        cell = first.locator(f'td[data-label^="{name}"]')
+        expect(cell).to_be_visible()
+        right = cell.evaluate("element => element.getBoundingClientRect().right")
+        assert right <= PHONE["width"], name
+        label = cell.evaluate("element => getComputedStyle(element, '::before').content")
+        assert label.startswith(f'"{name}'), name
+    # What the roll needs sits beside its name, on the card's first line.
+    roll = first.locator("th").bounding_box()
+    needs = first.locator("td.needs").bounding_box()
+    assert needs["x"] > roll["x"] and abs(needs["y"] - roll["y"]) < roll["height"]
+    page.emulate_media(color_scheme="light")
+    first.scroll_into_view_if_needed()
+    page.screenshot(path=str(screenshots / "rolls-overview-cards-phone.png"), full_page=False)
+
+
 def test_offline_a_register_page_says_it_needs_the_server(open_context, screenshots, demo_shop):
     base, rolls = demo_shop
     context = open_context(PHONE, service_workers="allow", base_url=base)
