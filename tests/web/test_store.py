@@ -17,18 +17,6 @@ from webapp.snippets import exchange, store
 from webapp.snippets import rerun as reruns
 
 
-@pytest.fixture
-def path(tmp_path):
-    return tmp_path / db.FILENAME
-
-
-@pytest.fixture
-def conn(path):
-    db.migrate(path)
-    with contextlib.closing(db.connect(path)) as connection:
-        yield connection
-
-
 def save(conn, title="Station 3", **meta):
     return store.create(conn, "film", FILM, {"title": title, **meta}, CALCULATIONS)
 

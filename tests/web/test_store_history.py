@@ -20,18 +20,6 @@ from webapp.snippets import store
 T0 = datetime(2026, 3, 2, 8, 0, tzinfo=UTC)
 
 
-@pytest.fixture
-def path(tmp_path):
-    return tmp_path / db.FILENAME
-
-
-@pytest.fixture
-def conn(path):
-    db.migrate(path)
-    with contextlib.closing(db.connect(path)) as connection:
-        yield connection
-
-
 def save(conn, **meta):
     return store.create(conn, "film", FILM, {"title": "Station 3", "saved_by": "Ada", **meta}, CALCULATIONS, now=T0)
 

@@ -17,19 +17,6 @@ from webapp.calculators import CALCULATIONS
 from webapp.common import db
 from webapp.snippets import store
 
-
-@pytest.fixture
-def path(tmp_path):
-    return tmp_path / db.FILENAME
-
-
-@pytest.fixture
-def conn(path):
-    db.migrate(path)
-    with contextlib.closing(db.connect(path)) as connection:
-        yield connection
-
-
 BEFORE = db.version_before("snippet_search")
 
 

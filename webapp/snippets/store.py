@@ -357,22 +357,7 @@ def insert_row(conn, row: dict):
         "INSERT INTO snippet (uid, kind, title, job_number, press, station, notes, saved_by, changed_by,"
         " inputs, results, created_at, updated_at, version)"
         " VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?) ON CONFLICT (uid) DO NOTHING",
-        (
-            row["uid"],
-            row["kind"],
-            row["title"],
-            row.get("job_number", ""),
-            row.get("press", ""),
-            row.get("station", ""),
-            row.get("notes", ""),
-            row.get("saved_by", ""),
-            row.get("changed_by", ""),
-            json.dumps(row["inputs"], ensure_ascii=False),
-            json.dumps(row["results"], ensure_ascii=False),
-            row["created_at"],
-            row["updated_at"],
-            row["version"],
-        ),
+        _row_values(row),
     )
     if cursor.rowcount == 1:
         _write_tags(conn, cursor.lastrowid, row.get("tags", []))
