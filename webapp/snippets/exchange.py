@@ -530,6 +530,20 @@ def _laid_out_as_export(head: bytes) -> str | None:
     return None
 
 
+# What an upload that is not a readable export raises while it is parsed (not JSON, cut short,
+# not UTF-8, a bad gzip file).
+PARSE_ERRORS = (ijson.JSONError, UnicodeDecodeError, EOFError, OSError)
+
+
+def _parse_reason(exc: BaseException) -> str:
+    """The first line of a parse error, or "the file ends early" when it says nothing."""
+    return str(exc).splitlines()[0].strip() if str(exc).strip() else "the file ends early"
+
+
+def _not_export_json(field: str, reason: str) -> InputError:
+    return InputError(field, f"is not JSON an export gives ({reason}); nothing was imported")
+
+
 def _quick_items(source, prefix: str) -> Iterator:
     count = 0
     # Floats as floats: an export never holds a number past a float's range (it would be a
@@ -540,11 +554,8 @@ def _quick_items(source, prefix: str) -> Iterator:
             item = next(items)
         except StopIteration:
             return
-        except (ijson.JSONError, UnicodeDecodeError, EOFError, OSError) as exc:
-            reason = str(exc).splitlines()[0].strip() if str(exc).strip() else "the file ends early"
-            raise InputError(
-                f"snippets[{count}]", f"is not JSON an export gives ({reason}); nothing was imported"
-            ) from None
+        except PARSE_ERRORS as exc:
+            raise _not_export_json(f"snippets[{count}]", _parse_reason(exc)) from None
         count += 1
         yield item
 
@@ -608,12 +619,12 @@ def _events(source, place: _Place) -> Iterator:
             event = next(events)
         except StopIteration:
             return
-        except (ijson.JSONError, UnicodeDecodeError, EOFError, OSError) as exc:
-            reason = str(exc).splitlines()[0].strip() if str(exc).strip() else "the file ends early"
+        except PARSE_ERRORS as exc:
+            reason = _parse_reason(exc)
             field = place.field()
             if field is None:
                 raise NotJSON(reason) from None
-            raise InputError(field, f"is not JSON an export gives ({reason}); nothing was imported") from None
+            raise _not_export_json(field, reason) from None
         prefix, kind, value = event
         if place.top and prefix == place.top and kind == "start_map":
             place.index += 1
