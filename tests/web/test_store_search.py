@@ -140,7 +140,7 @@ def test_many_matches_walk_the_sort_order_and_agree_with_few(conn, monkeypatch):
     for number in range(12):
         save(conn, f"Cyan {number}", job_number=f"24-{number:04d}")
     few = store.search(conn, "cyan", limit=5, offset=2)
-    monkeypatch.setattr(store, "_WALK_ABOVE", 3)
+    monkeypatch.setattr(store, "_ROW_COST", 10**9)
     assert store.search(conn, "cyan", limit=5, offset=2) == few
     assert few[1] == 12
 

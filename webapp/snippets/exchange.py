@@ -64,7 +64,10 @@ EXPORT_FIELDS = (
 
 def _live_rows(conn) -> Iterator[list]:
     """Every snippet not in the bin, oldest first, a batch at a time."""
-    cursor = conn.execute("SELECT * FROM snippet WHERE deleted_at IS NULL ORDER BY created_at, id")
+    # Named, so the first rows come at once from the index rather than after sorting them all.
+    cursor = conn.execute(
+        "SELECT * FROM snippet INDEXED BY snippet_live_created WHERE deleted_at IS NULL ORDER BY created_at, id"
+    )
     while rows := cursor.fetchmany(EXPORT_BATCH):
         yield rows_to_snippets(conn, rows)
 

@@ -118,20 +118,30 @@ def get(conn, snippet_id: int, *, deleted: bool = False) -> dict:
     return _row_to_snippet(conn, row)
 
 
-# The orders the Saved list offers; the SQL comes from here, never from the request. Each has
-# an index that walks it (migration snippet_search): newest/oldest ``snippet_updated``,
-# title ``snippet_live_title``, job ``snippet_live_job``.
+# The orders the Saved list offers; the SQL comes from here, never from the request.
 ORDERS = {
     "newest": "s.updated_at DESC, s.id DESC",
     "oldest": "s.updated_at, s.id",
     "title": "s.title COLLATE NOCASE, s.id",
     "job": "s.job_number = '', s.job_number COLLATE NOCASE, s.station, s.id",
 }
-# Above this many matches a page is found by walking the sort order and keeping the matches;
-# below it, by fetching the matches and sorting them.
-_WALK_ABOVE = 3_000
+# The partial indexes of live snippets (migration snippet_list_plans) each query names, so
+# that its plan never rests on the statistics SQLite happens to hold. Every one holds kind,
+# press, station and the last change beside its own order, so a filter is checked in the index.
+_ORDER_INDEX = {
+    "newest": "snippet_live_updated",
+    "oldest": "snippet_live_updated",
+    "title": "snippet_live_title",
+    "job": "snippet_live_job",
+}
+_FILTER_INDEX = {"press": "snippet_live_press", "station": "snippet_live_station", "kind": "snippet_live_kind"}
+# Reading a snippet's row by its id costs about as much as passing this many index entries
+# (measured on a 1M-snippet file): the page is found by walking the order's index when that
+# passes fewer than ``matches * _ROW_COST`` entries, else by fetching the matches and sorting.
+_ROW_COST = 20
 _WORD_PIECES = re.compile(r"[^\W_]+")
 _STAMP = re.compile(r"[0-9]{4}-[0-9]{2}-[0-9]{2}T[0-9]{2}:[0-9]{2}:[0-9]{2}Z")
+_MATCHING = "s.id IN (SELECT rowid FROM snippet_search WHERE snippet_search MATCH ?)"
 
 
 def match_query(q: str) -> str:
@@ -169,14 +179,12 @@ def check_stamp(value: str, field: str) -> str:
     return value
 
 
-def _filters(press, station, kind, changed_from, changed_before) -> tuple[list[str], list]:
-    """The WHERE terms (beside ``deleted_at IS NULL``) of the list's filters, and their parameters."""
-    where: list[str] = []
-    params: list = []
-    for column, value in (("press", press), ("station", station), ("kind", kind)):
-        if value:
-            where.append(f"s.{column} = ?")
-            params.append(value)
+def _filters(press, station, kind, changed_from, changed_before) -> tuple[dict, list[str], list]:
+    """The list's filters: the equal-to ones by column, and the WHERE terms (beside
+    ``deleted_at IS NULL``) of them all with their parameters."""
+    equal = {column: value for column, value in (("press", press), ("station", station), ("kind", kind)) if value}
+    where = [f"s.{column} = ?" for column in equal]
+    params: list = list(equal.values())
     changed_from = check_stamp(changed_from, "changed_from")
     changed_before = check_stamp(changed_before, "changed_before")
     if changed_from:
@@ -185,7 +193,14 @@ def _filters(press, station, kind, changed_from, changed_before) -> tuple[list[s
     if changed_before:
         where.append("s.updated_at < ?")
         params.append(changed_before)
-    return where, params
+    return equal, where, params
+
+
+def _tally(conn, equal: dict) -> int:
+    """How many snippets not in the bin have the ``equal`` kind, press and station (kept by triggers)."""
+    # The columns come from _filters, never from the request.
+    terms = " AND ".join(f"{column} = ?" for column in equal) or "1"
+    return conn.execute(f"SELECT coalesce(sum(live), 0) FROM snippet_tally WHERE {terms}", list(equal.values())).fetchone()[0]
 
 
 def search(
@@ -209,48 +224,95 @@ def search(
 
     Returns ``(snippets, total)``: one page and the number of all matches, both from one
     snapshot of the file. Words go to the FTS5 index ``snippet_search`` (see ``match_query``).
+
+    Each query names its index (``_plan``): counts without words or dates come from
+    ``snippet_tally``; others go through the index of the rarest filter, which holds the other
+    filters; the page is found by walking the order's index or by fetching the few matches.
     """
     sql_order = ORDERS.get(order) if isinstance(order, str) else None
     if sql_order is None:
         raise InputError("order", f"must be one of: {', '.join(ORDERS)}")
-    where, params = _filters(press, station, kind, changed_from, changed_before)
+    equal, where, params = _filters(press, station, kind, changed_from, changed_before)
     match = match_query(q)
     if (q or "").strip() and not match:
         return [], 0  # only signs typed (``_``, ``%``): nothing holds them as a word
     limit, offset = max(0, int(limit)), max(0, int(offset))
     with snapshot(conn):
+        plan = _plan(conn, equal, len(where) > len(equal), match, order, limit, offset)
         if match:
-            if where:
-                total = conn.execute(
-                    "SELECT count(*) FROM snippet s WHERE s.deleted_at IS NULL AND "
-                    "s.id IN (SELECT rowid FROM snippet_search WHERE snippet_search MATCH ?) AND "
-                    + " AND ".join(where),
-                    [match, *params],
-                ).fetchone()[0]
-            else:
-                # The index holds no snippet of the bin: its count is the answer.
-                total = conn.execute(
-                    "SELECT count(*) FROM snippet_search WHERE snippet_search MATCH ?", (match,)
-                ).fetchone()[0]
-            if total == 0 or offset >= total:
-                return [], total
-            # Few matches: look each up and sort them. Many: walk the sort order's index and keep
-            # the matches ("+s.id" stops SQLite from looking every match up first).
-            id_term = "s.id" if total <= _WALK_ABOVE else "+s.id"
-            matching = f"{id_term} IN (SELECT rowid FROM snippet_search WHERE snippet_search MATCH ?)"
-            condition = " AND ".join(["s.deleted_at IS NULL", matching, *where])
-            params = [match, *params]
-        else:
-            condition = " AND ".join(["s.deleted_at IS NULL", *where])
-            total = conn.execute(f"SELECT count(*) FROM snippet s WHERE {condition}", params).fetchone()[0]
-            if total == 0 or offset >= total:
-                return [], total
-        # ``sql_order`` and the terms come from ORDERS and _filters, never from the request.
-        rows = conn.execute(
-            f"SELECT s.* FROM snippet s WHERE {condition} ORDER BY {sql_order} LIMIT ? OFFSET ?",
-            [*params, limit, offset],
-        ).fetchall()
-        return rows_to_snippets(conn, rows), total
+            where, params = [_MATCHING, *where], [match, *params]
+        condition = " AND ".join(["s.deleted_at IS NULL", *where])
+        if plan["total"] is None:
+            plan["total"] = conn.execute(
+                f"SELECT count(*) FROM snippet s INDEXED BY {plan['count_index']} WHERE {condition}", params
+            ).fetchone()[0]
+        total = plan["total"]
+        if total == 0 or offset >= total:
+            return [], total
+        # The ids of the page first (from the index alone when it is walked), then their rows:
+        # the rows skipped by ``offset`` are never read.
+        ids = [
+            row[0]
+            for row in conn.execute(
+                f"SELECT s.id FROM snippet s {plan['page_index']} WHERE {condition}"
+                f" ORDER BY {sql_order} LIMIT ? OFFSET ?",
+                [*params, limit, offset],
+            )
+        ]
+        return _snippets_by_id(conn, ids), total
+
+
+def _plan(conn, equal: dict, ranged: bool, match: str, order: str, limit: int, offset: int) -> dict:
+    """How ``search`` finds its count and its page: ``total`` (or ``None``: counted through
+    ``count_index``) and ``page_index`` (the ``INDEXED BY`` or ``NOT INDEXED`` clause).
+
+    Index names come from ``_ORDER_INDEX`` and ``_FILTER_INDEX``, never from a request.
+    """
+    live = _tally(conn, {})
+    counts = {column: _tally(conn, {column: value}) for column, value in equal.items()}
+    rarest = min(counts, key=counts.get) if counts else None
+    count_index = _FILTER_INDEX[rarest] if rarest else "snippet_live_updated"
+    if not match and not ranged:
+        total = _tally(conn, equal)
+    elif match and not equal and not ranged:
+        # The word index holds no snippet of the bin: its count is the answer.
+        total = conn.execute("SELECT count(*) FROM snippet_search WHERE snippet_search MATCH ?", (match,)).fetchone()[0]
+    else:
+        total = None
+    plan = {"total": total, "count_index": count_index}
+    # The page: walk an index that is in the order asked (the rarest filter's, for the order of
+    # change, else the order's own), passing about (offset + limit) / share-of-matches entries;
+    # or read every match and sort them, which costs ``_ROW_COST`` entries a match.
+    walk_index = count_index if order in ("newest", "oldest") else _ORDER_INDEX[order]
+    span = counts[rarest] if walk_index == count_index and rarest else live
+    matches = total if total is not None else _estimate(conn, plan, equal, match, counts, live)
+    walked = span if matches == 0 else min(span, (offset + limit) * span / matches)
+    if walked <= matches * _ROW_COST or (not match and walk_index == count_index):
+        plan["page_index"] = f"INDEXED BY {walk_index}"
+    elif match and not (equal or ranged):
+        plan["page_index"] = "NOT INDEXED"  # each match's row by its id
+    else:
+        plan["page_index"] = f"INDEXED BY {count_index}"
+    return plan
+
+
+def _estimate(conn, plan, equal, match, counts, live) -> int:
+    """The number of matches, for choosing the page's plan when the count comes later: the
+    rarest filter's tally, scaled by the share of snippets holding the words."""
+    estimate = min(counts.values()) if counts else live
+    if match and live:
+        words = conn.execute("SELECT count(*) FROM snippet_search WHERE snippet_search MATCH ?", (match,)).fetchone()[0]
+        estimate = estimate * words / live
+    return estimate
+
+
+def _snippets_by_id(conn, ids: list[int]) -> list[dict]:
+    """The snippets with ``ids``, in that order."""
+    if not ids:
+        return []
+    marks = ",".join("?" * len(ids))
+    rows = {row["id"]: row for row in conn.execute(f"SELECT * FROM snippet WHERE id IN ({marks})", ids)}
+    return rows_to_snippets(conn, [rows[i] for i in ids if i in rows])
 
 
 def _distinct(conn, column: str) -> list[str]:
