@@ -245,3 +245,25 @@ def test_fragments_stay_with_the_quicker_compressor(client):
     with client.post("/", data=CONVERT_FORM, headers=headers) as response:
         assert response.status_code == 200
         assert response.headers.get("Content-Encoding") in {None, "zstd"}
+
+
+def test_a_page_asked_for_again_comes_at_brotli_s_best_and_is_kept(client):
+    accept = {"Accept-Encoding": "br"}
+    with client.get("/offline", headers={"Accept-Encoding": ""}) as plain:
+        page = plain.get_data()
+    bodies = []
+    for _ in range(3):
+        with client.get("/offline", headers=accept) as response:
+            bodies.append(response.get_data())
+    assert all(brotli.decompress(body) == page for body in bodies)
+    assert len(bodies[1]) < len(bodies[0]) and bodies[2] == bodies[1]
+
+
+def test_the_kept_pages_stay_few():
+    kept = assets._KeptPages(2)
+    pages = [f"<p>page {n}</p>".encode() * 50 for n in range(4)]
+    for page in pages:
+        for _ in range(2):  # seen, then kept
+            assert brotli.decompress(kept(page)) == page
+    assert list(kept.kept.values()) == [kept(pages[2]), kept(pages[3])]  # the newest two
+    assert len(kept.seen) <= 2

@@ -27,6 +27,8 @@ import hashlib
 import os
 import shutil
 import tempfile
+import threading
+from collections import OrderedDict
 from functools import cache
 from pathlib import Path
 from urllib.parse import parse_qs
@@ -43,8 +45,11 @@ VENDORED = "vendor"
 # made by an inkfilm that copied the same files differently is not taken.
 COPY_FORMAT = b"static copy 2: own css and js minified"
 # Brotli's quality for a page: about as fast as zstd's default for a page of
-# ~10 kB (well under a millisecond) and a tenth smaller; 11 would take ~25 ms.
+# ~10 kB (well under a millisecond) and a tenth smaller. Its best (11) is a
+# tenth smaller again but takes ~25 ms: kept for a page asked for again as it
+# was (most pages are the same for every phone: no session token in them).
 PAGE_BROTLI_QUALITY = 5
+PAGES_KEPT = 64
 
 
 def asset(filename: str) -> str:
@@ -209,6 +214,44 @@ class StaticFiles:
         return self.files(environ, check_again)
 
 
+class _KeptPages:
+    """Pages in Brotli by their content: a page seen once is compressed quickly, a page
+    seen again at Brotli's best, and kept (at most ``PAGES_KEPT``, the oldest dropped)."""
+
+    def __init__(self, size: int):
+        self.size = size
+        self.lock = threading.Lock()
+        self.seen: OrderedDict[bytes, None] = OrderedDict()
+        self.kept: OrderedDict[bytes, bytes] = OrderedDict()
+
+    def __call__(self, page: bytes) -> bytes:
+        import brotli
+
+        key = hashlib.sha1(page).digest()
+        with self.lock:
+            if (body := self.kept.get(key)) is not None:
+                self.kept.move_to_end(key)
+                return body
+            again = self.seen.pop(key, False) is None
+            if not again:
+                self._remember(self.seen, key, None)
+        if not again:
+            return brotli.compress(page, quality=PAGE_BROTLI_QUALITY)
+        body = brotli.compress(page, quality=11)
+        with self.lock:
+            self._remember(self.kept, key, body)
+        return body
+
+    def _remember(self, table: OrderedDict, key: bytes, value) -> None:
+        table[key] = value
+        table.move_to_end(key)
+        while len(table) > self.size:
+            table.popitem(last=False)
+
+
+_page_in_brotli = _KeptPages(PAGES_KEPT)
+
+
 def compress_page(response: Response) -> Response:
     """A whole page (GET, not an htmx fragment) in Brotli, when the browser takes it.
 
@@ -227,9 +270,7 @@ def compress_page(response: Response) -> Response:
         or not request.accept_encodings["br"]
     ):
         return response
-    import brotli
-
-    response.set_data(brotli.compress(response.get_data(), quality=PAGE_BROTLI_QUALITY))
+    response.set_data(_page_in_brotli(response.get_data()))
     response.headers["Content-Encoding"] = "br"
     response.vary.add("Accept-Encoding")
     etag, weak = response.get_etag()
