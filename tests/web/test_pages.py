@@ -438,3 +438,16 @@ FILM_FIELDS = (
     "solids_by_volume",
     "solids_by_weight",
 )
+
+
+def test_the_pages_fetched_at_install_link_only_the_stylesheet_every_page_needs(client):
+    # The other calculators' styles (calculators.css) are no part of the first load: the pages the
+    # worker fetches when it installs do not link them; every other page does.
+    installed = read_worker(client).shell
+    for path in ["/", "/film", "/offline"]:
+        assert path in installed
+        page = text(client.get(path))
+        assert "css/inkfilm.css?v=" in page and "css/calculators.css" not in page, path
+    for path in ["/estimate", "/fit", "/cell", "/ink-strength", "/snippets", "/rolls", "/inks"]:
+        assert "css/calculators.css?v=" in text(client.get(path)), path
+    assert not any("calculators.css" in url for url in installed)
