@@ -12,7 +12,9 @@ from tests.browser.conftest import PHONE, record_measurement
 
 pytestmark = pytest.mark.browser
 
-BUDGET = 60 * 1024  # bytes over the wire for the first load of the converter page
+# Bytes over the wire, headers included, for the first load of the converter page with the
+# worker installing: measured 47,520 (issue 16; 56,970 before), the rest a margin for small changes.
+BUDGET = 50 * 1024
 
 
 def wait_for_worker(page):

@@ -77,9 +77,11 @@ def test_an_installed_wheel_serves_a_styled_page(tmp_path):
     )
     from webapp.common import db
 
-    # Every migration is in the wheel; its dependencies (rjsmin for the phone's script) are declared.
+    # Every migration is in the wheel; its dependencies (rjsmin for the phone's script and the worker,
+    # rcssmin and rjsmin for the static copy) are declared.
     metadata = zipfile.ZipFile(wheel).read(next(n for n in zipfile.ZipFile(wheel).namelist() if n.endswith("METADATA")))
     assert re.search(rb"^Requires-Dist: rjsmin", metadata, re.M)
+    assert re.search(rb"^Requires-Dist: rcssmin", metadata, re.M)
     command = [python, "-c", script, str(db.SCHEMA_VERSION)]
     env = {**os.environ, "INKFILM_CACHE_DIR": str(tmp_path / "cache")}
     result = subprocess.run(command, cwd=tmp_path, env=env, capture_output=True, text=True, timeout=120)

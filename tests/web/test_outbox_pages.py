@@ -4,13 +4,13 @@ shell, the token the phone fetches before sending, and the nav's count slot."""
 from __future__ import annotations
 
 import hashlib
-import json
 import re
 from pathlib import Path
 
 import pytest
 
 from tests.conftest import csrf_from
+from tests.web.worker import read_worker
 
 ROOT = Path(__file__).resolve().parents[2]
 IDB_KEYVAL = ROOT / "webapp" / "static" / "vendor" / "idb-keyval-6.3.0.umd.js"
@@ -59,18 +59,17 @@ def test_the_outbox_list_is_on_its_page_and_on_the_offline_page(client, path):
 
 
 def test_the_worker_keeps_the_outbox_page_once_opened(client):
-    body = text(client.get("/sw.js"))
-    shell = json.loads(re.search(r"const SHELL = (\[.*?\]);", body).group(1))
+    worker = read_worker(client)
+    shell = worker.shell
     # The outbox page is kept once opened (the offline page lists the saves until then): not fetched at install.
     assert "/outbox" not in shell and "/offline" in shell
     # Its code is not fetched at install either (the first load's weight): the worker keeps it,
     # as every static file, once a page has loaded it.
     assert not any("outbox.js" in url or "idb-keyval" in url for url in shell)
-    assert 'url.pathname.startsWith("/static/")' in body
-    pages = json.loads(re.search(r"const SHELL_PAGES = new Set\((\[.*?\])\);", body).group(1))
-    assert "/outbox" in pages and "/outbox/token" not in pages
+    assert worker.has('url.pathname.startsWith("/static/")')
+    assert "/outbox" in worker.pages and "/outbox/token" not in worker.pages
     # A new build takes over at once, its cache renamed.
-    assert "self.skipWaiting()" in body and "self.clients.claim()" in body
+    assert worker.has("self.skipWaiting()") and worker.has("self.clients.claim()")
 
 
 def test_the_token_is_the_session_s_csrf_token_and_never_cached(client):

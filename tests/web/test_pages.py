@@ -9,10 +9,13 @@ import json
 import re
 from pathlib import Path
 
+import brotli
 import pytest
 
 from calc.display import format_number
+from tests.web.worker import read_worker
 from webapp.calculators import CALCULATIONS
+from webapp.common import security
 
 ROOT = Path(__file__).resolve().parents[2]
 HTMX = ROOT / "webapp" / "static" / "vendor" / "htmx-2.0.11.min.js"
@@ -52,14 +55,81 @@ def test_no_inline_script_style_or_handler(client, path):
     assert re.findall(r"https?://", body) == []  # no other origin
 
 
-def test_static_files_carry_a_policy_that_allows_them_nothing(client):
-    # Static files run and load nothing: a locked-down policy, without the document headers' weight.
-    for path in ["/static/css/inkfilm.css", "/static/icons/inkfilm.svg", "/static/vendor/htmx-2.0.11.min.js"]:
+# Which headers each kind of answer carries, and why (webapp/common/security.py): every byte of
+# a header is paid on each answer of the first load, so an answer carries those a browser reads
+# on it. nosniff is on every answer: a file is only ever read as the type it is sent as.
+DOCUMENT_ONLY = ("X-Frame-Options", "Cross-Origin-Opener-Policy", "Permissions-Policy")
+
+
+def test_an_svg_opened_on_its_own_is_a_document_and_gets_a_policy_that_allows_it_nothing(client):
+    versioned = re.search(r'href="(/static/icons/inkfilm\.svg\?v=[^"]+)"', text(client.get("/"))).group(1)
+    for path in ["/static/icons/inkfilm.svg", versioned]:
         with client.get(path) as response:
             assert response.status_code == 200
             csp = response.headers["Content-Security-Policy"]
             assert "default-src 'none'" in csp and "frame-ancestors 'none'" in csp and "script-src" not in csp
             assert response.headers["X-Content-Type-Options"] == "nosniff"
+
+
+@pytest.mark.parametrize(
+    "path",
+    [
+        "/static/css/inkfilm.css",
+        "/static/vendor/htmx-2.0.11.min.js",
+        "/static/js/inkfilm.js",
+        "/static/icons/inkfilm-192.png",
+        "/static/inkfilm.webmanifest",
+    ],
+)
+def test_other_static_files_run_nothing_opened_on_their_own_and_carry_only_nosniff(client, path):
+    # A stylesheet, script, picture or manifest opened on its own is shown as text or a picture:
+    # a policy there would never be read. A script runs under the policy of the page that loads it.
+    with client.get(path) as response:
+        assert response.status_code == 200
+        assert response.headers["X-Content-Type-Options"] == "nosniff"
+        assert "Content-Security-Policy" not in response.headers
+        assert not any(name in response.headers for name in DOCUMENT_ONLY + ("Referrer-Policy",))
+
+
+def test_the_manifest_is_sent_as_a_manifest(client):
+    with client.get("/static/inkfilm.webmanifest") as response:
+        assert response.mimetype == "application/manifest+json"
+
+
+def test_the_worker_gets_its_own_policy_and_referrer_policy_but_no_document_headers(client):
+    # A service worker runs under the CSP and the referrer policy of its script's answer;
+    # framing, the opener and the permissions policy are read on documents only.
+    with client.get("/sw.js") as response:
+        assert response.headers["Content-Security-Policy"] == security.CONTENT_SECURITY_POLICY
+        assert response.headers["Referrer-Policy"] == "same-origin"
+        assert response.headers["X-Content-Type-Options"] == "nosniff"
+        assert not any(name in response.headers for name in DOCUMENT_ONLY)
+
+
+def test_the_script_the_worker_imports_carries_only_nosniff(client):
+    # An imported script runs under the worker's policy; its own CSP would never be read.
+    url = re.search(r'importScripts\("([^"]+)"\)', read_worker(client).body).group(1)
+    with client.get(url) as response:
+        assert response.status_code == 200 and response.mimetype == "text/javascript"
+        assert response.headers["X-Content-Type-Options"] == "nosniff"
+        assert "Content-Security-Policy" not in response.headers
+        assert not any(name in response.headers for name in DOCUMENT_ONLY + ("Referrer-Policy",))
+
+
+def test_a_page_carries_every_document_header_and_its_304_only_nosniff(client):
+    # A 304 updates the stored answer's headers with those it sends: the stored page keeps its
+    # whole set (the service worker asks again for the page the browser has just loaded).
+    accept = {"Accept-Encoding": "gzip, deflate, br, zstd"}
+    with client.get("/", headers=accept) as response:
+        assert response.status_code == 200
+        for name, value in security.HEADERS.items():
+            assert response.headers[name] == value, name
+        etag = response.headers["ETag"]
+    with client.get("/", headers={**accept, "If-None-Match": etag}) as again:
+        assert again.status_code == 304
+        assert again.headers["X-Content-Type-Options"] == "nosniff"
+        assert "Content-Security-Policy" not in again.headers
+        assert not any(name in again.headers for name in DOCUMENT_ONLY)
 
 
 @pytest.mark.parametrize("path", ["/", "/film", "/api/v1/film", "/sw.js"])
@@ -299,18 +369,34 @@ def test_service_worker_is_served_from_the_root(client):
     response = client.get("/sw.js")
     assert response.mimetype == "text/javascript"
     assert response.headers["Cache-Control"] == "no-cache"
-    body = text(response)
-    shell = json.loads(re.search(r"const SHELL = (\[.*?\]);", body).group(1))
+    worker = read_worker(client)
+    shell = worker.shell
     # fetched at install: the quick pages and the offline page; every calculator page is kept once opened
     assert {"/", "/film", "/offline"} <= set(shell) and "/estimate" not in shell
-    pages = json.loads(re.search(r"const SHELL_PAGES = new Set\((\[.*?\])\);", body).group(1))
-    assert {"/", "/film", "/estimate", "/fit", "/cell", "/ink-strength", "/offline"} <= set(pages)
+    assert {"/", "/film", "/estimate", "/fit", "/cell", "/ink-strength", "/offline"} <= set(worker.pages)
+    # and the static files every page links, not the print stylesheet only the Job ink pages link
+    assert not any("print.css" in url for url in shell)
     for url in shell:
         with client.get(url) as page:
             assert page.status_code == 200, url
     # calculations, the API and saved snippets always go to the server
-    assert 'request.method !== "GET"' in body and 'request.headers.has("HX-Request")' in body
-    assert 'url.pathname.startsWith("/api/")' in body and 'url.pathname.startsWith("/snippets")' in body
+    assert worker.has('request.method !== "GET"') and worker.has('request.headers.has("HX-Request")')
+    assert worker.has('url.pathname.startsWith("/api/")') and worker.has('url.pathname.startsWith("/snippets")')
+
+
+def test_the_worker_is_sent_small_and_asked_again_with_a_validator(client):
+    # Part of every first load: without comments and spaces, compressed once at Brotli's best.
+    with client.get("/sw.js", headers={"Accept-Encoding": ""}) as plain:
+        body = plain.get_data()
+    source = (ROOT / "webapp" / "templates" / "sw.js").read_text()
+    assert "// " not in body.decode() and len(body) < len(source) * 0.8
+    with client.get("/sw.js", headers={"Accept-Encoding": "gzip, deflate, br, zstd"}) as response:
+        assert response.headers["Content-Encoding"] == "br"
+        assert brotli.decompress(response.get_data()) == body
+        etag = response.headers["ETag"]
+    # The browser checks the worker on navigations: an unchanged build costs a 304.
+    with client.get("/sw.js", headers={"Accept-Encoding": "gzip, deflate, br, zstd", "If-None-Match": etag}) as again:
+        assert again.status_code == 304
 
 
 def test_manifest_and_icons(client):
@@ -352,3 +438,16 @@ FILM_FIELDS = (
     "solids_by_volume",
     "solids_by_weight",
 )
+
+
+def test_the_pages_fetched_at_install_link_only_the_stylesheet_every_page_needs(client):
+    # The other calculators' styles (calculators.css) are no part of the first load: the pages the
+    # worker fetches when it installs do not link them; every other page does.
+    installed = read_worker(client).shell
+    for path in ["/", "/film", "/offline"]:
+        assert path in installed
+        page = text(client.get(path))
+        assert "css/inkfilm.css?v=" in page and "css/calculators.css" not in page, path
+    for path in ["/estimate", "/fit", "/cell", "/ink-strength", "/snippets", "/rolls", "/inks"]:
+        assert "css/calculators.css?v=" in text(client.get(path)), path
+    assert not any("calculators.css" in url for url in installed)

@@ -110,7 +110,8 @@ def test_static_files_never_vary_on_the_cookie_with_or_without_one(client):
     ],
 )
 def test_text_files_come_precompressed_as_the_browser_accepts(client, accept, encoding):
-    original = (assets.Path(client.application.static_folder) / "css" / "inkfilm.css").read_bytes()
+    source = (assets.Path(client.application.static_folder) / "css" / "inkfilm.css").read_bytes()
+    original = assets.minified(assets.Path("css/inkfilm.css"), source)
     with client.get("/static/css/inkfilm.css", headers={"Accept-Encoding": accept}) as response:
         assert response.status_code == 200
         assert response.headers.get("Content-Encoding") == encoding
@@ -120,6 +121,24 @@ def test_text_files_come_precompressed_as_the_browser_accepts(client, accept, en
         assert decoded == original
         if encoding:
             assert len(body) < len(original) / 2
+
+
+def test_our_css_and_js_are_sent_without_comments_and_spaces(client):
+    static = assets.Path(client.application.static_folder)
+    for name in ("css/inkfilm.css", "js/inkfilm.js"):
+        with client.get(f"/static/{name}", headers={"Accept-Encoding": ""}) as response:
+            body = response.get_data()
+        source = (static / name).read_bytes()
+        assert b"/*" not in body[:2] and len(body) < len(source) * 0.85, name
+
+
+def test_vendored_files_are_sent_byte_for_byte_as_published(client):
+    # Their checksums are tested against the published files (test_pages.py, test_outbox_pages.py).
+    static = assets.Path(client.application.static_folder)
+    for name in ("vendor/htmx-2.0.11.min.js", "vendor/idb-keyval-6.3.0.umd.js"):
+        for accept, decode in (("", lambda data: data), ("br", brotli.decompress), ("gzip", gzip.decompress)):
+            with client.get(f"/static/{name}", headers={"Accept-Encoding": accept}) as response:
+                assert decode(response.get_data()) == (static / name).read_bytes(), (name, accept)
 
 
 def test_images_are_sent_as_they_are(client):
@@ -136,6 +155,8 @@ def test_versioned_addresses_are_immutable_and_others_are_checked_again(client):
             assert response.status_code == 200, url
             control = response.headers["Cache-Control"]
             assert "immutable" in control and "max-age=31536000" in control, url
+        # Never asked again (immutable): no validators to ask with.
+        assert "ETag" not in response.headers and "Last-Modified" not in response.headers, url
     with client.get("/static/css/inkfilm.css?v=an-older-build") as response:
         assert response.headers["Cache-Control"] == "no-cache"
     with client.get("/static/css/inkfilm.css") as response:
@@ -185,7 +206,8 @@ def test_a_half_made_folder_is_made_again(tmp_path, monkeypatch):
     (half / "css" / "inkfilm.css").write_text("broken")  # no .complete: a server stopped halfway
     app = create_app({"TESTING": True, "DATA_DIR": str(tmp_path / "data")})
     with app.test_client().get("/static/css/inkfilm.css", headers={"Accept-Encoding": ""}) as response:
-        assert response.get_data() == (assets.Path(app.static_folder) / "css" / "inkfilm.css").read_bytes()
+        source = (assets.Path(app.static_folder) / "css" / "inkfilm.css").read_bytes()
+        assert response.get_data() == assets.minified(assets.Path("css/inkfilm.css"), source)
 
 
 def test_without_a_cache_folder_static_files_are_still_served_compressed(tmp_path, monkeypatch):
@@ -195,3 +217,53 @@ def test_without_a_cache_folder_static_files_are_still_served_compressed(tmp_pat
     app = create_app({"TESTING": True, "DATA_DIR": str(tmp_path / "data")})
     with app.test_client().get("/static/css/inkfilm.css", headers={"Accept-Encoding": "gzip"}) as response:
         assert response.status_code == 200 and response.headers["Content-Encoding"] == "gzip"
+
+
+# --- pages --------------------------------------------------------------------------------------
+
+
+def test_a_page_comes_in_brotli_with_an_etag_of_its_own(client):
+    accept = {"Accept-Encoding": "gzip, deflate, br, zstd"}
+    with client.get("/", headers={"Accept-Encoding": ""}) as plain:
+        page = plain.get_data()
+        plain_etag = plain.headers["ETag"]
+    with client.get("/", headers=accept) as response:
+        assert response.headers["Content-Encoding"] == "br"
+        assert brotli.decompress(response.get_data()) == page
+        assert "Accept-Encoding" in response.headers["Vary"] and "HX-Request" in response.headers["Vary"]
+        etag = response.headers["ETag"]
+    assert etag != plain_etag  # a cache never takes one encoding for the other
+    with client.get("/", headers={**accept, "If-None-Match": etag}) as again:
+        assert again.status_code == 304 and not again.get_data()
+    with client.get("/", headers={"Accept-Encoding": "gzip"}) as response:  # no brotli: as before
+        assert response.headers["Content-Encoding"] == "gzip"
+
+
+def test_fragments_stay_with_the_quicker_compressor(client):
+    # htmx answers come at each keystroke: compressed per request by Flask-Compress (zstd first).
+    headers = {"HX-Request": "true", "Accept-Encoding": "gzip, deflate, br, zstd"}
+    with client.post("/", data=CONVERT_FORM, headers=headers) as response:
+        assert response.status_code == 200
+        assert response.headers.get("Content-Encoding") in {None, "zstd"}
+
+
+def test_a_page_asked_for_again_comes_at_brotli_s_best_and_is_kept(client):
+    accept = {"Accept-Encoding": "br"}
+    with client.get("/offline", headers={"Accept-Encoding": ""}) as plain:
+        page = plain.get_data()
+    bodies = []
+    for _ in range(3):
+        with client.get("/offline", headers=accept) as response:
+            bodies.append(response.get_data())
+    assert all(brotli.decompress(body) == page for body in bodies)
+    assert len(bodies[1]) < len(bodies[0]) and bodies[2] == bodies[1]
+
+
+def test_the_kept_pages_stay_few():
+    kept = assets._KeptPages(2)
+    pages = [f"<p>page {n}</p>".encode() * 50 for n in range(4)]
+    for page in pages:
+        for _ in range(2):  # seen, then kept
+            assert brotli.decompress(kept(page)) == page
+    assert list(kept.kept.values()) == [kept(pages[2]), kept(pages[3])]  # the newest two
+    assert len(kept.seen) <= 2

@@ -7,10 +7,16 @@ versioned file can be cached for a year and a new build is fetched at once.
 Static files never reach a Flask view: WhiteNoise serves them in front of the
 app from a copy in inkfilm's cache folder (``calc.units.cache_folder``), made
 once per build with a gzip and a brotli file beside each text file, so each
-answer is a file read, compressed once at start-up and never again. A request
-with this build's ``?v=`` is cached for a year (``immutable``); any other asks
-the browser to check again (``no-cache``, answered 304 when unchanged). Other
-responses are compressed per request by Flask-Compress.
+answer is a file read, compressed once at start-up and never again. Our own
+stylesheets and scripts are copied without their comments and spaces
+(``rcssmin``, ``rjsmin``); vendored files (``vendor/``) as they are. A request
+with this build's ``?v=`` is cached for a year (``immutable``) and carries no
+validators (a browser never asks again for an immutable file); any other asks
+the browser to check again (``no-cache``, answered 304 when unchanged).
+
+Pages (a GET of a whole page) are compressed per request with Brotli
+(``compress_page``), smaller than Flask-Compress's zstd for the pages of a first
+load; every other response by Flask-Compress.
 """
 
 from __future__ import annotations
@@ -21,6 +27,8 @@ import hashlib
 import os
 import shutil
 import tempfile
+import threading
+from collections import OrderedDict
 from functools import cache
 from pathlib import Path
 from urllib.parse import parse_qs
@@ -31,6 +39,17 @@ ONE_YEAR = 365 * 24 * 3600
 STATIC_PREFIX = "/static/"
 # Files worth compressing (the images are compressed already).
 COMPRESSIBLE = {".css", ".js", ".svg", ".webmanifest", ".json", ".txt", ".html", ".map"}
+# Kept byte for byte as they were published (their checksums are tested).
+VENDORED = "vendor"
+# How the static copy is made; part of the build version, so that a cache folder
+# made by an inkfilm that copied the same files differently is not taken.
+COPY_FORMAT = b"static copy 2: own css and js minified"
+# Brotli's quality for a page: about as fast as zstd's default for a page of
+# ~10 kB (well under a millisecond) and a tenth smaller. Its best (11) is a
+# tenth smaller again but takes ~25 ms: kept for a page asked for again as it
+# was (most pages are the same for every phone: no session token in them).
+PAGE_BROTLI_QUALITY = 5
+PAGES_KEPT = 64
 
 
 def asset(filename: str) -> str:
@@ -56,7 +75,7 @@ def prepare_static(response: Response) -> Response:
 @cache
 def _build_version(root: str) -> str:
     """A hash of every static file and template: a new build gets a new cache."""
-    digest = hashlib.sha256()
+    digest = hashlib.sha256(COPY_FORMAT)
     for folder in (Path(root) / "static", Path(root) / "templates"):
         for path in sorted(folder.rglob("*")):
             if path.is_file():
@@ -72,22 +91,41 @@ def build_version() -> str:
 # --- compressed once -------------------------------------------------------------
 
 
+def minified(relative: Path, data: bytes) -> bytes:
+    """The bytes the build serves for a static file: our own CSS and JS without comments and spaces."""
+    if VENDORED in relative.parts or relative.suffix not in {".css", ".js"}:
+        return data
+    if relative.suffix == ".css":
+        import rcssmin
+
+        return rcssmin.cssmin(data.decode("utf-8")).encode("utf-8")
+    import rjsmin
+
+    return rjsmin.jsmin(data.decode("utf-8")).encode("utf-8")
+
+
+def compressed_forms(data: bytes) -> dict[str, bytes]:
+    """``data`` compressed at each encoding's best (once per build: slow, and the smallest)."""
+    import brotli  # Flask-Compress's dependency
+
+    # mtime=0: the same bytes at every build of the same file.
+    return {"br": brotli.compress(data, quality=11), "gzip": gzip.compress(data, compresslevel=9, mtime=0)}
+
+
 def _compress_into(source: Path, target: Path) -> None:
     """Copy ``source`` (the static folder) to ``target`` with ``.gz`` and ``.br`` beside each text file."""
-    import brotli  # Flask-Compress's dependency; only needed when a build is first served
-
     for path in sorted(source.rglob("*")):
         if not path.is_file() or path.suffix in {".gz", ".br"}:
             continue
-        copy = target / path.relative_to(source)
+        relative = path.relative_to(source)
+        copy = target / relative
         copy.parent.mkdir(parents=True, exist_ok=True)
-        data = path.read_bytes()
+        data = minified(relative, path.read_bytes())
         copy.write_bytes(data)
         if path.suffix not in COMPRESSIBLE:
             continue
-        # mtime=0: the same bytes at every build of the same file.
-        squeezed = {".gz": gzip.compress(data, compresslevel=9, mtime=0), ".br": brotli.compress(data, quality=11)}
-        for suffix, body in squeezed.items():
+        squeezed = compressed_forms(data)
+        for suffix, body in ((".gz", squeezed["gzip"]), (".br", squeezed["br"])):
             if len(body) < len(data):  # WhiteNoise offers whichever variants exist
                 copy.with_name(copy.name + suffix).write_bytes(body)
 
@@ -124,17 +162,22 @@ def _cache_base() -> Path | None:
     return cache_folder("static")
 
 
+# What a browser would ask again with; an immutable file is never asked again.
+VALIDATORS = {"etag", "last-modified"}
+
+
 class StaticFiles:
     """WSGI: ``/static/…`` answered by WhiteNoise from the compressed copy, the rest by ``app``."""
 
-    def __init__(self, app, root: Path, version: str, headers: dict[str, str]):
+    def __init__(self, app, root: Path, version: str, headers):
+        """``headers(path)``: the headers of the file at ``path`` (``security.static_headers``)."""
         from whitenoise import WhiteNoise
 
         class YearLong(WhiteNoise):
             FOREVER = ONE_YEAR  # what "immutable" files are cached for
 
         def add_headers(response_headers, path, url):
-            for name, value in headers.items():
+            for name, value in headers(path).items():
                 response_headers[name] = value
 
         self.app = app
@@ -147,6 +190,7 @@ class StaticFiles:
             allow_all_origins=False,
             immutable_file_test=lambda path, url: True,
             add_headers_function=add_headers,
+            mimetypes={".webmanifest": "application/manifest+json"},
         )
         # Only the build's files; the marker of a finished folder is no static file.
         self.files.files.pop(STATIC_PREFIX + ".complete", None)
@@ -155,7 +199,12 @@ class StaticFiles:
         if not environ.get("PATH_INFO", "").startswith(STATIC_PREFIX):
             return self.app(environ, start_response)
         if parse_qs(environ.get("QUERY_STRING", "")).get("v") == [self.version]:
-            return self.files(environ, start_response)
+
+            def immutable(status, headers, exc_info=None):
+                headers = [(name, value) for name, value in headers if name.lower() not in VALIDATORS]
+                return start_response(status, headers, exc_info)
+
+            return self.files(environ, immutable)
 
         def check_again(status, headers, exc_info=None):
             headers = [(name, value) for name, value in headers if name.lower() != "cache-control"]
@@ -165,16 +214,83 @@ class StaticFiles:
         return self.files(environ, check_again)
 
 
+class _KeptPages:
+    """Pages in Brotli by their content: a page seen once is compressed quickly, a page
+    seen again at Brotli's best, and kept (at most ``PAGES_KEPT``, the oldest dropped)."""
+
+    def __init__(self, size: int):
+        self.size = size
+        self.lock = threading.Lock()
+        self.seen: OrderedDict[bytes, None] = OrderedDict()
+        self.kept: OrderedDict[bytes, bytes] = OrderedDict()
+
+    def __call__(self, page: bytes) -> bytes:
+        import brotli
+
+        key = hashlib.sha1(page).digest()
+        with self.lock:
+            if (body := self.kept.get(key)) is not None:
+                self.kept.move_to_end(key)
+                return body
+            again = self.seen.pop(key, False) is None
+            if not again:
+                self._remember(self.seen, key, None)
+        if not again:
+            return brotli.compress(page, quality=PAGE_BROTLI_QUALITY)
+        body = brotli.compress(page, quality=11)
+        with self.lock:
+            self._remember(self.kept, key, body)
+        return body
+
+    def _remember(self, table: OrderedDict, key: bytes, value) -> None:
+        table[key] = value
+        table.move_to_end(key)
+        while len(table) > self.size:
+            table.popitem(last=False)
+
+
+_page_in_brotli = _KeptPages(PAGES_KEPT)
+
+
+def compress_page(response: Response) -> Response:
+    """A whole page (GET, not an htmx fragment) in Brotli, when the browser takes it.
+
+    Runs before Flask-Compress, which leaves an answer with a ``Content-Encoding``
+    alone; like it, keeps the page's ETag apart per encoding and answers a
+    matching ``If-None-Match`` with a 304 (the service worker asks for the page
+    the browser has just loaded).
+    """
+    if (
+        request.method != "GET"
+        or response.status_code != 200
+        or response.mimetype != "text/html"
+        or response.is_streamed
+        or "Content-Encoding" in response.headers
+        or request.headers.get("HX-Request")
+        or not request.accept_encodings["br"]
+    ):
+        return response
+    response.set_data(_page_in_brotli(response.get_data()))
+    response.headers["Content-Encoding"] = "br"
+    response.vary.add("Accept-Encoding")
+    etag, weak = response.get_etag()
+    if etag and not weak:
+        response.set_etag(f"{etag}:br")
+    return response.make_conditional(request)
+
+
 def init_app(app) -> None:
     """Static files in front of the app (compressed once), and compressed text responses."""
     from flask_compress import Compress
 
-    from webapp.common.security import STATIC_HEADERS
+    from webapp.common.security import static_headers
 
     # Exports stream; CSV is compressed on the wire as JSON is.
     Compress(app).compress_mimetypes_set.add("text/csv")
+    # After Flask-Compress's registration, so run before it (Flask runs them last first).
+    app.after_request(compress_page)
     app.after_request(prepare_static)
     app.add_template_global(asset)
     version = _build_version(app.root_path)
     root = compressed_static(Path(app.static_folder), version)
-    app.wsgi_app = StaticFiles(app.wsgi_app, root, version, STATIC_HEADERS)
+    app.wsgi_app = StaticFiles(app.wsgi_app, root, version, static_headers)

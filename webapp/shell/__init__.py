@@ -7,21 +7,28 @@ the shop network drops.
 
 from __future__ import annotations
 
+from functools import lru_cache
+
+import rjsmin
 from flask import Blueprint, make_response, redirect, render_template, request
 
 from calc.display import SYSTEMS
 from webapp.calculators import PAGES
-from webapp.common.assets import ONE_YEAR, asset, build_version
+from webapp.common.assets import ONE_YEAR, asset, build_version, compressed_forms
 from webapp.common.preference import UNITS_COOKIE, current_system
+from webapp.common.security import worker_script
 from webapp.common.urls import safe_next
 from webapp.shell.offline_data import offline_bundle, offline_document
 
 bp = Blueprint("shell", __name__)
 
+# The static files the worker keeps when it installs: what every page of the
+# shell links (the page has just loaded them, so they come from the browser's
+# cache, not over the wire). Any other static file is kept when first used
+# (``print.css``, which only the Job ink pages link, for printing).
 STATIC_FILES = (
     "vendor/htmx-2.0.11.min.js",
     "css/inkfilm.css",
-    "css/print.css",
     "js/inkfilm.js",
     "inkfilm.webmanifest",
     "icons/inkfilm.svg",
@@ -81,13 +88,7 @@ def offline_data():
 def offline_calc():
     """The offline code and document in one script for the worker to import (see offline_data.py)."""
     bundle = offline_bundle()
-    accepted = request.accept_encodings
-    encoding = next((name for name in ("br", "gzip") if accepted[name]), None)
-    response = make_response(bundle.encoded[encoding] if encoding else bundle.body)
-    response.mimetype = "text/javascript"
-    if encoding:
-        response.headers["Content-Encoding"] = encoding
-    response.vary.add("Accept-Encoding")
+    response = _script(bundle.body, bundle.encoded)
     if request.args.get("v") == bundle.version:
         response.headers["Cache-Control"] = f"public, max-age={ONE_YEAR}, immutable"
     else:
@@ -95,20 +96,38 @@ def offline_calc():
     return response
 
 
+def _script(body: bytes, encoded: dict[str, bytes]):
+    """A script in the best of its compressed forms the browser takes."""
+    accepted = request.accept_encodings
+    encoding = next((name for name in ("br", "gzip") if accepted[name] and name in encoded), None)
+    response = make_response(encoded[encoding] if encoding else body)
+    response.mimetype = "text/javascript"
+    if encoding:
+        response.headers["Content-Encoding"] = encoding
+    response.vary.add("Accept-Encoding")
+    return response
+
+
+@lru_cache(maxsize=4)
+def _worker_body(version: str, shell: tuple, pages: tuple, offline_calc: str) -> tuple[bytes, dict[str, bytes]]:
+    """The worker's script of a build, without comments and spaces, and compressed once:
+    it is the same for every request of a build, and part of every first load."""
+    body = render_template(
+        "sw.js", version=version, shell=list(shell), shell_pages=list(pages), offline_calc=offline_calc
+    )
+    body = rjsmin.jsmin(body).encode("utf-8")
+    return body, compressed_forms(body)
+
+
 @bp.get("/sw.js")
 def service_worker():
-    shell = precached_pages() + [asset(name) for name in STATIC_FILES]
-    body = render_template(
-        "sw.js",
-        version=build_version(),
-        shell=shell,
-        shell_pages=shell_pages(),
-        offline_calc=offline_calc_url(),
-    )
-    response = make_response(body)
-    response.mimetype = "text/javascript"
+    shell = tuple(precached_pages() + [asset(name) for name in STATIC_FILES])
+    body, encoded = _worker_body(build_version(), shell, tuple(shell_pages()), offline_calc_url())
+    response = worker_script(_script(body, encoded))
     response.headers["Cache-Control"] = "no-cache"
-    return response
+    # The browser checks the worker for a new build on navigations: unchanged, that is a 304.
+    response.add_etag()
+    return response.make_conditional(request)
 
 
 def init_app(app) -> None:

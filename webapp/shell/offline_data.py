@@ -13,13 +13,11 @@ shows in the document and the phone reads a form as the server does.
 
 from __future__ import annotations
 
-import gzip
 import hashlib
 import json
 from functools import cache
 from pathlib import Path
 
-import brotli  # Flask-Compress's own dependency
 import rjsmin
 
 from calc.display import UNIT_LABELS
@@ -28,6 +26,7 @@ from calc.offline import document as core_document
 from calc.units import parse_unit
 from webapp.calculators import BY_KIND, convert, film, kind_name
 from webapp.common import forms
+from webapp.common.assets import compressed_forms
 from webapp.snippets import rules as snippet_rules
 
 # The unit menus a typed unit may set, by the name the phone uses for them.
@@ -153,10 +152,7 @@ class Bundle:
         code = rjsmin.jsmin(source) + "\nself.inkfilmOfflineData=" + document.decode("utf-8") + ";\n"
         self.body = code.encode("utf-8")
         self.version = hashlib.sha256(self.body).hexdigest()[:16]
-        self.encoded = {
-            "br": brotli.compress(self.body, quality=11),
-            "gzip": gzip.compress(self.body, compresslevel=9, mtime=0),
-        }
+        self.encoded = compressed_forms(self.body)
 
 
 @cache
