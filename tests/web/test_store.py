@@ -98,6 +98,40 @@ def test_create_works_the_results_out_with_todays_core(conn):
 
 
 @pytest.mark.parametrize(
+    ("kind", "inputs", "meta"),
+    [
+        ("film", FILM, {"title": "Only a title"}),
+        (
+            "estimate",
+            ESTIMATE_UNPRICED,
+            {
+                "title": "  Pouch   quote ",
+                "job_number": "24-0117",
+                "press": "W1",
+                "station": "3",
+                "notes": 'Über "quoted" ✓\r\nline two\n',
+                "tags": "Weiß, opaque white, Ärger, zebra, apple, Weiß",
+                "saved_by": "Ana",
+            },
+        ),
+    ],
+)
+def test_a_save_answers_and_keeps_exactly_what_reading_it_back_gives(conn, kind, inputs, meta):
+    # The answer and the first kept version are made before the write (nothing read back):
+    # they must be what the file holds, to the byte for the kept version.
+    snippet, created = store.create_once(conn, None, kind, inputs, meta, CALCULATIONS)
+    assert created
+    assert snippet == store.get(conn, snippet["id"])
+    data, changed_by, changed_at = conn.execute(
+        "SELECT data, changed_by, changed_at FROM snippet_version WHERE snippet_id = ? AND version = 1",
+        (snippet["id"],),
+    ).fetchone()
+    assert data == json.dumps({**store._state(snippet), "event": "saved"}, ensure_ascii=False)
+    assert (changed_by, changed_at) == (snippet["saved_by"], snippet["created_at"])
+    assert [v["event"] for v in store.history(conn, snippet["id"])] == ["saved"]
+
+
+@pytest.mark.parametrize(
     ("meta", "field", "words"),
     [
         ({"title": ""}, "title", "required"),

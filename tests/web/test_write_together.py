@@ -123,7 +123,7 @@ def test_writes_queued_while_one_commits_are_committed_together_on_one_connectio
         followers = threading.Thread(target=lambda: outcomes.update(enumerate(in_threads(count - 1, rest), 1)))
         followers.start()
         while True:
-            with group.changed:
+            with group.guard:
                 if len(group.pending) == count - 1:
                     break
             time.sleep(0.001)
@@ -138,6 +138,39 @@ def test_writes_queued_while_one_commits_are_committed_together_on_one_connectio
     # The eleven that queued behind the first went in one batch: on one connection, one commit.
     assert len({ran_on[n] for n in range(1, count)}) == 1
     assert rows(path) == {outcomes[n]: f"batch {n}" for n in range(count)}
+
+
+def test_a_write_queued_longer_than_the_busy_timeout_gives_up_and_the_queue_goes_on(path, monkeypatch):
+    """Behind a commit that takes too long, a queued write fails as "database is locked" and is not
+    done; the commit still ends, and the next write leads a commit of its own."""
+    monkeypatch.setattr(db, "BUSY_TIMEOUT_S", 0.3)
+    release = threading.Event()
+    outcomes: dict[str, object] = {}
+    first, second, third = (db.connect(path) for _ in range(3))
+    try:
+        group = first.write_group
+
+        def slow(writer):
+            assert release.wait(HANG_GUARD_S)
+            return insert(writer, "uid-slow", "slow")
+
+        leader = threading.Thread(target=lambda: outcomes.update(slow=db.write_together(first, slow)))
+        leader.start()
+        while not group.leading:
+            time.sleep(0.001)
+        with pytest.raises(sqlite3.OperationalError, match="database is locked"):
+            db.write_together(second, lambda writer: insert(writer, "uid-late", "late"))
+        with group.guard:
+            assert group.pending == []
+        release.set()
+        leader.join(HANG_GUARD_S)
+        outcomes["next"] = db.write_together(third, lambda writer: insert(writer, "uid-next", "next"))
+        with group.guard:
+            assert not group.leading and group.pending == []
+    finally:
+        for conn in (first, second, third):
+            conn.close()
+    assert rows(path) == {outcomes["slow"]: "slow", outcomes["next"]: "next"}
 
 
 def test_an_error_in_one_write_of_a_batch_undoes_that_write_only(path):

@@ -81,24 +81,33 @@ def _write_lock(path) -> threading.Lock:
 class _Job:
     """One write waiting to be done with others (see ``write_together``)."""
 
-    __slots__ = ("work", "value", "error", "finished")
+    __slots__ = ("work", "value", "error", "finished", "lead", "woken")
 
     def __init__(self, work):
         self.work = work
         self.value = None
         self.error: BaseException | None = None
         self.finished = False
+        # Set when this job's thread is to make the next commit (it is first in the queue).
+        self.lead = False
+        # Held until the job's thread is woken: once, when its commit is over or when it is to lead.
+        self.woken = threading.Lock()
+        self.woken.acquire()
 
     def fail(self, error: BaseException) -> None:
         self.value, self.error = None, error
 
 
 class _WriteGroup:
-    """The writes of one file queued for the next shared commit, and whether one is being made."""
+    """The writes of one file queued for the next shared commit, and whether one is being made.
+
+    Each queued write waits on a lock of its own, so a commit wakes the writers it
+    took and the one that leads the next commit, not every writer of the file.
+    """
 
     def __init__(self, lock: threading.Lock):
         self.lock = lock
-        self.changed = threading.Condition(threading.Lock())
+        self.guard = threading.Lock()
         self.pending: list[_Job] = []
         self.leading = False
 
@@ -174,8 +183,9 @@ def write_together(conn: sqlite3.Connection, work: Callable[[sqlite3.Connection]
 
     Group commit: with ``synchronous = FULL`` every commit waits for the disk (an
     fsync of the WAL), and one writer at a time may commit. So a writer queues its
-    ``work`` and the first one to find no commit being made takes every queued
-    write into one transaction on its own connection (``c``): each write in a
+    ``work`` while a commit is being made; when it ends, the first writer queued
+    takes every write queued by then into one transaction on its own connection
+    (``c``; a writer that finds no commit being made goes alone): each write in a
     savepoint of its own, then one ``COMMIT`` for all of them. Each caller gets
     its own value, or its own exception, only after that commit: an answered
     write is on disk exactly as if it had committed alone, and an error in one
@@ -194,38 +204,61 @@ def write_together(conn: sqlite3.Connection, work: Callable[[sqlite3.Connection]
             return work(conn)
     job = _Job(work)
     deadline = time.monotonic() + BUSY_TIMEOUT_S
-    with group.changed:
-        group.pending.append(job)
-        while group.leading and not job.finished:
-            left = deadline - time.monotonic()
-            if left <= 0 and job in group.pending:
-                group.pending.remove(job)
-                raise sqlite3.OperationalError("database is locked")
-            # Taken into a commit already: that commit ends, whatever the clock says.
-            group.changed.wait(left if left > 0 else 1.0)
-        batch = []
-        if not job.finished:
+    with group.guard:
+        queued = group.leading
+        if queued:
+            group.pending.append(job)
+        else:
             group.leading = True
+    if queued:
+        if not job.woken.acquire(timeout=max(0.0, deadline - time.monotonic())):
+            with group.guard:
+                given_up = job in group.pending and not job.lead
+                if given_up:
+                    group.pending.remove(job)
+            if given_up:
+                raise sqlite3.OperationalError("database is locked")
+            # Taken into a commit or made its leader meanwhile: that commit ends, whatever the clock says.
+            job.woken.acquire()
+        if job.finished:
+            if job.error is not None:
+                raise job.error
+            return job.value
+        # First in the queue when the last commit ended: this thread commits every write queued now.
+        with group.guard:
             batch, group.pending = group.pending, []
-    if batch:
-        try:
-            if group.lock.acquire(timeout=max(0.0, deadline - time.monotonic())):
-                try:
-                    _commit_together(conn, batch)
-                finally:
-                    group.lock.release()
-            else:
-                for other in batch:
-                    other.fail(sqlite3.OperationalError("database is locked"))
-        finally:
-            with group.changed:
-                for other in batch:
-                    other.finished = True
-                group.leading = False
-                group.changed.notify_all()
+    else:
+        batch = [job]
+    try:
+        if group.lock.acquire(timeout=max(0.0, deadline - time.monotonic())):
+            try:
+                _commit_together(conn, batch)
+            finally:
+                group.lock.release()
+        else:
+            for other in batch:
+                other.fail(sqlite3.OperationalError("database is locked"))
+    finally:
+        _hand_on(group, batch)
     if job.error is not None:
         raise job.error
     return job.value
+
+
+def _hand_on(group: _WriteGroup, batch: list[_Job]) -> None:
+    """After a commit: wake the writers of ``batch`` with their outcome, and the first queued one to lead the next."""
+    with group.guard:
+        for job in batch:
+            job.finished = True
+        after = group.pending[0] if group.pending else None
+        if after is not None:
+            after.lead = True
+        else:
+            group.leading = False
+    for job in batch:
+        job.woken.release()
+    if after is not None:
+        after.woken.release()
 
 
 def _commit_together(conn: sqlite3.Connection, batch: list[_Job]) -> None:

@@ -412,14 +412,14 @@ def _write_tags(conn, snippet_id: int, tags: list[str]) -> None:
     conn.executemany("INSERT INTO snippet_tag (snippet_id, tag) VALUES (?, ?)", [(snippet_id, tag) for tag in tags])
 
 
-def insert_row(conn, row: dict):
+def insert_row(conn, row: dict, values: tuple | None = None):
     """Insert one snippet and its tags, unless its ``uid`` is here already; the cursor
-    (``rowcount`` 0 when it was)."""
+    (``rowcount`` 0 when it was). ``values``: ``_row_values(row)`` if the caller has made them."""
     cursor = conn.execute(
         "INSERT INTO snippet (uid, kind, title, job_number, press, station, notes, saved_by, changed_by,"
         " inputs, results, created_at, updated_at, version)"
         " VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?) ON CONFLICT (uid) DO NOTHING",
-        _row_values(row),
+        values if values is not None else _row_values(row),
     )
     if cursor.rowcount == 1:
         _write_tags(conn, cursor.lastrowid, row.get("tags", []))
@@ -524,24 +524,75 @@ def create_once(
         "updated_at": stamp,
         "version": 1,
     }
+    # Made once, before the write: the row's values and the JSON texts, the first kept version
+    # and the answer (the snippet exactly as ``get`` would read it back), so that the write
+    # itself is plain SQL and nothing is read back or parsed again.
+    values = _row_values(row)
+    snippet = _new_snippet(row, values)
+    version_text = _version_text(snippet, values, "saved")
 
     def add(writer) -> tuple[int | None, dict | None]:
         if client_id and (found := _saved_under(writer, client_id, digest)) is not None:
             return None, found  # sent twice at once: the other request saved it first
-        cursor = insert_row(writer, row)
+        cursor = insert_row(writer, row, values)
         if client_id:
             writer.execute(
                 "UPDATE snippet SET client_id = ?, client_digest = ? WHERE id = ?",
                 (client_id, digest, cursor.lastrowid),
             )
-        _record(writer, get(writer, cursor.lastrowid), "saved", row.get("saved_by", ""), stamp)
+        writer.execute(
+            "INSERT OR IGNORE INTO snippet_version (snippet_id, version, data, changed_by, changed_at)"
+            " VALUES (?, 1, ?, ?, ?)",
+            (cursor.lastrowid, version_text, snippet["saved_by"], stamp),
+        )
         return cursor.lastrowid, None
 
     # Committed together with the saves of other requests queued meanwhile (group commit).
     snippet_id, found = write_together(conn, add)
     if found is not None:
         return found, False
-    return get(conn, snippet_id), True
+    return {**snippet, "id": snippet_id}, True
+
+
+# Where ``_row_values`` puts the inputs' and the results' JSON texts.
+_INPUTS_AT, _RESULTS_AT = 9, 10
+
+
+def _new_snippet(row: dict, values: tuple) -> dict:
+    """The snippet ``insert_row`` writes from ``row``/``values`` as ``get`` reads it back (``id`` aside):
+    the columns as written, the tags in the index's order, inputs and results parsed from their texts."""
+    return {
+        "id": None,
+        "uid": row["uid"],
+        "kind": row["kind"],
+        "title": row["title"],
+        "job_number": row.get("job_number", ""),
+        "press": row.get("press", ""),
+        "station": row.get("station", ""),
+        "notes": row.get("notes", ""),
+        # SQLite orders text by its UTF-8 bytes, which is code point order (no lone surrogates here).
+        "tags": sorted(row.get("tags", [])),
+        "saved_by": row.get("saved_by", ""),
+        "changed_by": row.get("changed_by", ""),
+        "deleted_by": "",
+        "inputs": json.loads(values[_INPUTS_AT]),
+        "results": json.loads(values[_RESULTS_AT]),
+        "created_at": row["created_at"],
+        "updated_at": row["updated_at"],
+        "version": row["version"],
+        "deleted_at": None,
+    }
+
+
+def _version_text(snippet: dict, values: tuple, event: str) -> str:
+    """The ``data`` ``_record`` keeps for ``snippet`` and ``event``, with the inputs' and results' JSON
+    texts of ``values`` put in as they are instead of dumped again (the same text: a JSON text
+    ``json.dumps`` wrote is what it writes again for its own parse)."""
+    head = json.dumps({name: snippet[name] for name in META_FIELDS}, ensure_ascii=False)
+    return (
+        f'{head[:-1]}, "inputs": {values[_INPUTS_AT]}, "results": {values[_RESULTS_AT]},'
+        f' "event": {json.dumps(event, ensure_ascii=False)}}}'
+    )
 
 
 def _check_version(version) -> int:
