@@ -200,7 +200,9 @@ def _tally(conn, equal: dict) -> int:
     """How many snippets not in the bin have the ``equal`` kind, press and station (kept by triggers)."""
     # The columns come from _filters, never from the request.
     terms = " AND ".join(f"{column} = ?" for column in equal) or "1"
-    return conn.execute(f"SELECT coalesce(sum(live), 0) FROM snippet_tally WHERE {terms}", list(equal.values())).fetchone()[0]
+    return conn.execute(
+        f"SELECT coalesce(sum(live), 0) FROM snippet_tally WHERE {terms}", list(equal.values())
+    ).fetchone()[0]
 
 
 def search(
@@ -225,7 +227,7 @@ def search(
     Returns ``(snippets, total)``: one page and the number of all matches, both from one
     snapshot of the file. Words go to the FTS5 index ``snippet_search`` (see ``match_query``).
 
-    Each query names its index (``_plan``): counts without words or dates come from
+    Each query names its index (see ``_page_index``): counts without words or dates come from
     ``snippet_tally``; others go through the index of the rarest filter, which holds the other
     filters; the page is found by walking the order's index or by fetching the few matches.
     """
@@ -238,72 +240,66 @@ def search(
         return [], 0  # only signs typed (``_``, ``%``): nothing holds them as a word
     limit, offset = max(0, int(limit)), max(0, int(offset))
     with snapshot(conn):
-        plan = _plan(conn, equal, len(where) > len(equal), match, order, limit, offset)
+        live = _tally(conn, {})
+        counts = {column: _tally(conn, {column: value}) for column, value in equal.items()}
+        rarest = min(counts, key=counts.get) if counts else None
+        count_index = _FILTER_INDEX[rarest] if rarest else "snippet_live_updated"
+        ranged = len(where) > len(equal)
         if match:
             where, params = [_MATCHING, *where], [match, *params]
         condition = " AND ".join(["s.deleted_at IS NULL", *where])
-        if plan["total"] is None:
-            plan["total"] = conn.execute(
-                f"SELECT count(*) FROM snippet s INDEXED BY {plan['count_index']} WHERE {condition}", params
+        if not match and not ranged:
+            total = _tally(conn, equal)
+        elif match and not equal and not ranged:
+            # The word index holds no snippet of the bin: its count is the answer.
+            total = conn.execute(
+                "SELECT count(*) FROM snippet_search WHERE snippet_search MATCH ?", (match,)
             ).fetchone()[0]
-        total = plan["total"]
+        else:
+            # ``count_index`` comes from _FILTER_INDEX, never from the request.
+            total = conn.execute(
+                f"SELECT count(*) FROM snippet s INDEXED BY {count_index} WHERE {condition}", params
+            ).fetchone()[0]
         if total == 0 or offset >= total:
             return [], total
+        page_index = _page_index(
+            order,
+            count_index,
+            counts.get(rarest, live),
+            live,
+            total,
+            bool(match),
+            bool(equal or ranged),
+            limit + offset,
+        )
         # The ids of the page first (from the index alone when it is walked), then their rows:
         # the rows skipped by ``offset`` are never read.
         ids = [
             row[0]
             for row in conn.execute(
-                f"SELECT s.id FROM snippet s {plan['page_index']} WHERE {condition}"
-                f" ORDER BY {sql_order} LIMIT ? OFFSET ?",
+                f"SELECT s.id FROM snippet s {page_index} WHERE {condition} ORDER BY {sql_order} LIMIT ? OFFSET ?",
                 [*params, limit, offset],
             )
         ]
         return _snippets_by_id(conn, ids), total
 
 
-def _plan(conn, equal: dict, ranged: bool, match: str, order: str, limit: int, offset: int) -> dict:
-    """How ``search`` finds its count and its page: ``total`` (or ``None``: counted through
-    ``count_index``) and ``page_index`` (the ``INDEXED BY`` or ``NOT INDEXED`` clause).
+def _page_index(order, count_index, filtered, live, total, match, filtered_or_ranged, reach) -> str:
+    """The ``INDEXED BY`` (or ``NOT INDEXED``) clause that finds the page: walk an index in the
+    order asked (the rarest filter's, ``count_index``, for the order of change, else the order's
+    own), passing about ``reach`` / share-of-matches entries; or read every match and sort them,
+    which costs ``_ROW_COST`` entries a match. ``filtered``: the snippets ``count_index`` holds.
 
     Index names come from ``_ORDER_INDEX`` and ``_FILTER_INDEX``, never from a request.
     """
-    live = _tally(conn, {})
-    counts = {column: _tally(conn, {column: value}) for column, value in equal.items()}
-    rarest = min(counts, key=counts.get) if counts else None
-    count_index = _FILTER_INDEX[rarest] if rarest else "snippet_live_updated"
-    if not match and not ranged:
-        total = _tally(conn, equal)
-    elif match and not equal and not ranged:
-        # The word index holds no snippet of the bin: its count is the answer.
-        total = conn.execute("SELECT count(*) FROM snippet_search WHERE snippet_search MATCH ?", (match,)).fetchone()[0]
-    else:
-        total = None
-    plan = {"total": total, "count_index": count_index}
-    # The page: walk an index that is in the order asked (the rarest filter's, for the order of
-    # change, else the order's own), passing about (offset + limit) / share-of-matches entries;
-    # or read every match and sort them, which costs ``_ROW_COST`` entries a match.
     walk_index = count_index if order in ("newest", "oldest") else _ORDER_INDEX[order]
-    span = counts[rarest] if walk_index == count_index and rarest else live
-    matches = total if total is not None else _estimate(conn, plan, equal, match, counts, live)
-    walked = span if matches == 0 else min(span, (offset + limit) * span / matches)
-    if walked <= matches * _ROW_COST or (not match and walk_index == count_index):
-        plan["page_index"] = f"INDEXED BY {walk_index}"
-    elif match and not (equal or ranged):
-        plan["page_index"] = "NOT INDEXED"  # each match's row by its id
-    else:
-        plan["page_index"] = f"INDEXED BY {count_index}"
-    return plan
-
-
-def _estimate(conn, plan, equal, match, counts, live) -> int:
-    """The number of matches, for choosing the page's plan when the count comes later: the
-    rarest filter's tally, scaled by the share of snippets holding the words."""
-    estimate = min(counts.values()) if counts else live
-    if match and live:
-        words = conn.execute("SELECT count(*) FROM snippet_search WHERE snippet_search MATCH ?", (match,)).fetchone()[0]
-        estimate = estimate * words / live
-    return estimate
+    span = filtered if walk_index == count_index else live
+    walked = min(span, reach * span / total)
+    if walked <= total * _ROW_COST or (not match and walk_index == count_index):
+        return f"INDEXED BY {walk_index}"
+    if match and not filtered_or_ranged:
+        return "NOT INDEXED"  # each match's row by its id
+    return f"INDEXED BY {count_index}"
 
 
 def _snippets_by_id(conn, ids: list[int]) -> list[dict]:
